@@ -1,0 +1,127 @@
+"""Rule profiles: a scheme's choice of which checks run, at what severity, with which options.
+
+A profile is a TOML file::
+
+    [profile]
+    name = "strict-desk-audit"
+    description = "Our scheme's desk audit"
+
+    [checks.zs-over-80-percent-rule]
+    enabled = false
+
+    [checks.ring-rn-matches-r1]
+    severity = "breach"
+    tolerance_ohm = 0.05
+
+Every key is validated against the check's declared options; errors name the file and key.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from checks.base import Check
+from checks.model import Severity
+from checks.registry import all_checks
+
+
+class ProfileError(ValueError):
+    pass
+
+
+@dataclass(frozen=True)
+class CheckSettings:
+    enabled: bool = True
+    severity: Severity | None = None
+    options: dict[str, Any] = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class Profile:
+    name: str = "default"
+    description: str = "certvet's defaults"
+    path: str | None = None
+    checks: dict[str, CheckSettings] = field(default_factory=dict)
+
+    def settings(self, check_id: str) -> CheckSettings:
+        return self.checks.get(check_id, CheckSettings())
+
+    def instantiate(self, cls: type[Check]) -> Check:
+        s = self.settings(cls.id)
+        opts = cls.Options(**s.options) if s.options else cls.Options()
+        return cls(opts, s.severity)
+
+
+DEFAULT_PROFILE = Profile()
+
+
+def parse_profile(data: dict[str, Any], path: str = "<profile>") -> Profile:
+    def fail(key: str, problem: str) -> ProfileError:
+        return ProfileError(f"{path}: {key}: {problem}")
+
+    unknown = set(data) - {"profile", "checks"}
+    if unknown:
+        raise fail(sorted(unknown)[0], "unknown section (allowed: profile, checks)")
+    head = data.get("profile", {})
+    if not isinstance(head, dict):
+        raise fail("profile", "expected a table")
+    for k in head:
+        if k not in ("name", "description"):
+            raise fail(f"profile.{k}", "unknown key (allowed: name, description)")
+    known = {c.id: c for c in all_checks()}
+    settings: dict[str, CheckSettings] = {}
+    raw_checks = data.get("checks", {})
+    if not isinstance(raw_checks, dict):
+        raise fail("checks", "expected a table of check ids")
+    for cid, raw in raw_checks.items():
+        key = f"checks.{cid}"
+        if cid not in known:
+            raise fail(key, "no check with this id (see `certvet checks`)")
+        if not isinstance(raw, dict):
+            raise fail(key, "expected a table")
+        cls = known[cid]
+        fields = {f.name: f for f in dataclasses.fields(cls.Options)}
+        enabled = raw.get("enabled", True)
+        if not isinstance(enabled, bool):
+            raise fail(f"{key}.enabled", "expected true or false")
+        sev = None
+        if "severity" in raw:
+            try:
+                sev = Severity.parse(str(raw["severity"]))
+            except ValueError as exc:
+                raise fail(f"{key}.severity", str(exc)) from None
+        opts: dict[str, Any] = {}
+        for k, v in raw.items():
+            if k in ("enabled", "severity"):
+                continue
+            if k not in fields:
+                allowed = ", ".join(sorted(fields)) or "none"
+                raise fail(f"{key}.{k}", f"unknown option (options: {allowed})")
+            default = fields[k].default
+            if isinstance(default, bool) != isinstance(v, bool) or (
+                isinstance(default, (int, float)) and not isinstance(v, (int, float))
+            ) or (isinstance(default, str) and not isinstance(v, str)):
+                raise fail(f"{key}.{k}", f"expected a value like {default!r}, got {v!r}")
+            opts[k] = float(v) if isinstance(default, float) and not isinstance(v, bool) else v
+        settings[cid] = CheckSettings(enabled, sev, opts)
+    return Profile(
+        name=str(head.get("name", Path(path).stem)),
+        description=str(head.get("description", "")),
+        path=path,
+        checks=settings,
+    )
+
+
+def load_profile(path: str | Path) -> Profile:
+    p = Path(path)
+    try:
+        data = tomllib.loads(p.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise ProfileError(f"{p}: profile file not found") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise ProfileError(f"{p}: not valid TOML: {exc}") from None
+    return parse_profile(data, str(p))

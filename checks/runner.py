@@ -1,0 +1,58 @@
+"""Run the catalogue over one certificate: every check ends passed, failed, not applicable
+or disabled, and every finding lands in one list."""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass, field
+
+from checks.model import CheckRun, Finding, Outcome, Severity
+from checks.profile import DEFAULT_PROFILE, Profile
+from checks.registry import all_checks
+from extractor.records import Certificate
+
+
+@dataclass
+class CheckResults:
+    profile: Profile
+    runs: list[CheckRun] = field(default_factory=list)
+    findings: list[Finding] = field(default_factory=list)
+
+    def worst(self) -> Severity | None:
+        counted = [f.severity for f in self.findings if not f.preview]
+        return max(counted) if counted else None
+
+    def count(self, severity: Severity) -> int:
+        return sum(1 for f in self.findings if f.severity is severity and not f.preview)
+
+
+def run_checks(cert: Certificate, profile: Profile | None = None) -> CheckResults:
+    profile = profile or DEFAULT_PROFILE
+    results = CheckResults(profile)
+    for cls in all_checks():
+        settings = profile.settings(cls.id)
+        check = profile.instantiate(cls)
+        options = dataclasses.asdict(check.options)
+        if not settings.enabled:
+            results.runs.append(CheckRun(cls.id, cls.title, Outcome.DISABLED, 0, 0, options))
+            continue
+        applied, found = check.run(cert)
+        if found:
+            outcome = Outcome.FAILED
+        elif applied:
+            outcome = Outcome.PASSED
+        else:
+            outcome = Outcome.NOT_APPLICABLE
+        results.runs.append(CheckRun(cls.id, cls.title, outcome, applied, len(found), options))
+        results.findings.extend(found)
+    results.findings.sort(
+        key=lambda f: (-f.severity, f.board or "", _ref_key(f.circuit), f.check_id)
+    )
+    return results
+
+
+def _ref_key(ref: str | None) -> tuple[int, str]:
+    if ref is None:
+        return (-1, "")
+    digits = "".join(ch for ch in ref if ch.isdigit())
+    return (int(digits) if digits else 10**6, ref)

@@ -1,0 +1,16 @@
+"""Errors for input that cannot be audited. str() is always one line: '<file>: <reason>'."""
+
+from __future__ import annotations
+
+
+class InputError(Exception):
+    """A file that cannot be read as a certificate (not a PDF, encrypted, no text layer…)."""
+
+    def __init__(self, path: str, reason: str) -> None:
+        super().__init__(f"{path}: {reason}")
+        self.path = path
+        self.reason = reason
+
+
+class NoLayoutMatches(InputError):
+    """No layout recognised the file, or the chosen layout found no schedule in it."""
