@@ -1,0 +1,224 @@
+"""The library API: everything the CLI does is reachable from here.
+
+    from certvet.api import audit_file, load_layouts
+    result = audit_file("cert.pdf", layouts=load_layouts([Path("layouts/")]), out_dir=Path("out"))
+    print(result.verdict.label, len(result.results.findings))
+
+Heavy libraries (pdfplumber, pandas, jinja2) are imported inside the functions that need them,
+so importing this module — and the CLI's --help — stays fast.
+"""
+
+from __future__ import annotations
+
+import hashlib
+from collections.abc import Callable, Iterable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from certvet import __version__
+from checks.profile import DEFAULT_PROFILE, Profile, load_profile
+from checks.runner import CheckResults, run_checks
+from extractor.errors import InputError, NoLayoutMatches
+from extractor.layout import Layout, LayoutError, load_layout, load_layouts
+from extractor.records import Certificate
+
+__all__ = [
+    "AuditResult",
+    "BatchSummary",
+    "InputError",
+    "LayoutError",
+    "NoLayoutMatches",
+    "audit_file",
+    "audit_many",
+    "choose_layout",
+    "demo_inputs",
+    "expand_inputs",
+    "load_layout",
+    "load_layouts",
+    "load_profile",
+]
+
+REPO_ROOT = Path(__file__).resolve().parents[1]
+DEMO_DIR = REPO_ROOT / "fixtures" / "demo"
+DEMO_LAYOUTS = REPO_ROOT / "fixtures" / "layouts"
+
+
+@dataclass
+class AuditResult:
+    source: Path
+    certificate: Certificate
+    results: CheckResults
+    layout: str
+    outputs: dict[str, Path] = field(default_factory=dict)
+
+    @property
+    def verdict(self):  # -> reports.verdict.Verdict (imported lazily)
+        from reports.verdict import verdict_for
+
+        return verdict_for(self.certificate, self.results)
+
+    @property
+    def has_breach(self) -> bool:
+        from checks.model import Severity
+
+        worst = self.results.worst()
+        return worst is not None and worst >= Severity.BREACH
+
+
+@dataclass(frozen=True)
+class Failure:
+    source: Path
+    reason: str  # one line, naming the file
+
+
+@dataclass
+class BatchSummary:
+    audited: list[AuditResult] = field(default_factory=list)
+    failed: list[Failure] = field(default_factory=list)
+
+    @property
+    def total(self) -> int:
+        return len(self.audited) + len(self.failed)
+
+
+def file_sha256(path: Path) -> str:
+    h = hashlib.sha256()
+    with path.open("rb") as fh:
+        for block in iter(lambda: fh.read(1 << 20), b""):
+            h.update(block)
+    return h.hexdigest()
+
+
+def choose_layout(pdf: Path, layouts: Sequence[Layout], password: str | None = None) -> Layout:
+    """The first layout whose recognition rule matches the file."""
+    from extractor.api import recognise
+
+    if not layouts:
+        raise NoLayoutMatches(str(pdf), "no layout given (use --layout or --layouts)")
+    found = recognise(str(pdf), list(layouts), password=password)
+    if found is None:
+        names = ", ".join(lay.name for lay in layouts)
+        raise NoLayoutMatches(str(pdf), f"no layout recognises this form (tried: {names})")
+    return found
+
+
+def audit_file(
+    pdf: str | Path,
+    *,
+    layouts: Sequence[Layout] = (),
+    layout: Layout | None = None,
+    profile: Profile | None = None,
+    out_dir: Path | None = None,
+    engine: str | None = None,
+    password: str | None = None,
+    formats: Iterable[str] = ("html", "json", "csv"),
+) -> AuditResult:
+    """Extract, check and (when out_dir is given) write the reports for one PDF.
+
+    Raises InputError (one-line message naming the file) for input that cannot be audited.
+    """
+    from extractor.api import extract
+
+    path = Path(pdf)
+    if not path.exists():
+        raise InputError(str(path), "file not found")
+    if path.is_dir():
+        raise InputError(str(path), "is a folder, not a PDF")
+    chosen = layout or choose_layout(path, layouts, password)
+    cert = extract(str(path), chosen, engine=engine, password=password)
+    if not cert.boards or not any(b.circuits for b in cert.boards):
+        raise NoLayoutMatches(
+            str(path),
+            f"layout {chosen.name!r} found no schedule of test results in this file "
+            "(no circuit rows under the column headers)",
+        )
+    results = run_checks(cert, profile or DEFAULT_PROFILE)
+    result = AuditResult(path, cert, results, chosen.name)
+    if out_dir is not None:
+        result.outputs = write_reports(result, out_dir, formats, profile or DEFAULT_PROFILE)
+    return result
+
+
+def report_stem(result: AuditResult) -> str:
+    return result.source.stem
+
+
+def write_reports(
+    result: AuditResult, out_dir: Path, formats: Iterable[str], profile: Profile
+) -> dict[str, Path]:
+    from reports.csvout import write_csv
+    from reports.html import write_html
+    from reports.jsonout import write_json
+
+    out_dir.mkdir(parents=True, exist_ok=True)
+    stem = report_stem(result)
+    outputs: dict[str, Path] = {}
+    fmts = set(formats)
+    if "html" in fmts:
+        outputs["html"] = out_dir / f"{stem}.html"
+        write_html(result.certificate, result.results, outputs["html"],
+                   certvet_version=__version__, profile=profile)
+    if "json" in fmts:
+        outputs["json"] = out_dir / f"{stem}.json"
+        write_json(result.certificate, result.results, outputs["json"],
+                   certvet_version=__version__, profile=profile)
+    if "csv" in fmts:
+        written = write_csv(result.certificate, result.results, out_dir / stem)
+        for i, p in enumerate(written or []):
+            outputs[f"csv{i}"] = Path(p)
+    return outputs
+
+
+def expand_inputs(paths: Iterable[Path]) -> list[Path]:
+    """Files as given, folders searched recursively for *.pdf (sorted, no duplicates)."""
+    seen: dict[Path, None] = {}
+    for p in paths:
+        if p.is_dir():
+            for f in sorted(p.rglob("*")):
+                if f.is_file() and f.suffix.lower() == ".pdf":
+                    seen.setdefault(f, None)
+        else:
+            seen.setdefault(p, None)
+    return list(seen)
+
+
+def audit_many(
+    pdfs: Sequence[Path],
+    *,
+    layouts: Sequence[Layout] = (),
+    layout: Layout | None = None,
+    profile: Profile | None = None,
+    out_dir: Path | None = None,
+    engine: str | None = None,
+    password: str | None = None,
+    on_done: Callable[[Path, AuditResult | None, str | None], None] | None = None,
+) -> BatchSummary:
+    """Audit each file in turn; a bad file is recorded as failed with its reason, never fatal."""
+    summary = BatchSummary()
+    for pdf in pdfs:
+        try:
+            res = audit_file(pdf, layouts=layouts, layout=layout, profile=profile,
+                             out_dir=out_dir, engine=engine, password=password)
+        except InputError as exc:
+            summary.failed.append(Failure(Path(pdf), str(exc)))
+            if on_done:
+                on_done(Path(pdf), None, str(exc))
+            continue
+        except Exception as exc:  # a bug must not lose the rest of the batch
+            reason = f"{pdf}: internal error while auditing ({type(exc).__name__}: {exc})"
+            summary.failed.append(Failure(Path(pdf), reason))
+            if on_done:
+                on_done(Path(pdf), None, reason)
+            continue
+        summary.audited.append(res)
+        if on_done:
+            on_done(Path(pdf), res, None)
+    return summary
+
+
+def demo_inputs() -> tuple[list[Path], list[Layout]]:
+    """The bundled demo certificates and their layouts."""
+    pdfs = sorted(DEMO_DIR.glob("*.pdf"))
+    if not pdfs:
+        raise InputError(str(DEMO_DIR), "no demo PDFs found (run: python fixtures/generate.py)")
+    return pdfs, load_layouts([DEMO_LAYOUTS])

@@ -1,0 +1,246 @@
+"""The `certvet` command: a thin layer over certvet.api.
+
+Heavy libraries are imported inside the commands, so `certvet --help` answers quickly.
+Exit status of `audit`/`demo`: 0 no breach or impossible result found; 1 at least one;
+3 at least one input could not be audited (2 is a usage error, from typer).
+"""
+
+from __future__ import annotations
+
+import sys
+from enum import StrEnum
+from pathlib import Path
+from typing import Annotated, Optional
+
+import typer
+
+app = typer.Typer(
+    name="certvet",
+    help=(
+        "Desk-audit the schedule of test results in BS 7671 electrical certificates (PDF).\n\n"
+        "A desk check of recorded results cannot show that an installation is safe: it tells "
+        "you which results to question. Defer to BS 7671, local codes and licensed practice."
+    ),
+    no_args_is_help=True,
+    add_completion=False,
+    rich_markup_mode=None,
+    pretty_exceptions_enable=False,
+)
+
+EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, EXIT_FAILED = 0, 1, 2, 3
+
+
+class EngineChoice(StrEnum):
+    words = "words"
+    pdfium = "pdfium"
+    lattice = "lattice"
+
+
+def _err(message: str) -> None:
+    typer.echo(f"certvet: {message}", err=True)
+
+
+def _load_inputs(layout_paths: list[Path], profile_path: Path | None):
+    from checks.profile import DEFAULT_PROFILE, ProfileError, load_profile
+    from extractor.layout import LayoutError, load_layouts
+
+    try:
+        layouts = load_layouts(layout_paths) if layout_paths else []
+        profile = load_profile(profile_path) if profile_path else DEFAULT_PROFILE
+    except (LayoutError, ProfileError) as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_USAGE) from None
+    return layouts, profile
+
+
+def _run_batch(pdfs, layouts, profile, out_dir, engine, password, quiet) -> int:
+    from certvet.api import audit_many
+
+    show_bar = len(pdfs) > 3 and not quiet and sys.stderr.isatty()
+    lines: list[str] = []
+
+    def done(path, result, error) -> None:
+        if error:
+            lines.append(f"FAILED   {error}")
+        else:
+            v = result.verdict
+            n = len([f for f in result.results.findings if not f.preview])
+            lines.append(f"{v.label.upper():<22} {path}  ({n} findings, layout {result.layout})")
+        if not show_bar and not quiet:
+            typer.echo(lines[-1])
+
+    if show_bar:
+        from rich.progress import Progress
+
+        with Progress(transient=True) as bar:
+            task = bar.add_task("auditing", total=len(pdfs))
+
+            def step(path, result, error) -> None:
+                done(path, result, error)
+                bar.advance(task)
+
+            summary = audit_many(pdfs, layouts=layouts, profile=profile, out_dir=out_dir,
+                                 engine=engine, password=password, on_done=step)
+        for ln in lines:
+            typer.echo(ln)
+    else:
+        summary = audit_many(pdfs, layouts=layouts, profile=profile, out_dir=out_dir,
+                             engine=engine, password=password, on_done=done)
+    breach = any(r.has_breach for r in summary.audited)
+    if not quiet:
+        typer.echo(
+            f"\n{summary.total} file(s): {len(summary.audited)} audited, "
+            f"{len(summary.failed)} failed; reports in {out_dir}"
+        )
+        for f in summary.failed:
+            typer.echo(f"  failed: {f.reason}")
+        typer.echo(
+            "A desk check cannot show an installation is safe; "
+            "defer to BS 7671 and licensed practice."
+        )
+    if summary.failed:
+        return EXIT_FAILED
+    return EXIT_FINDINGS if breach else EXIT_CLEAN
+
+
+@app.command()
+def audit(
+    pdfs: Annotated[list[Path], typer.Argument(help="PDF files or folders (searched recursively).")],
+    layout: Annotated[
+        list[Path],
+        typer.Option("--layout", "-l", help="Layout file or folder of layouts; repeatable. "
+                     "Each file's form is recognised automatically among them."),
+    ] = [],  # noqa: B006
+    out: Annotated[Path, typer.Option("--out", "-o", help="Folder for the reports.")] = Path(
+        "certvet-out"
+    ),
+    profile: Annotated[
+        Optional[Path], typer.Option("--profile", help="Rule profile (TOML).")  # noqa: UP045
+    ] = None,
+    engine: Annotated[
+        Optional[EngineChoice],  # noqa: UP045
+        typer.Option("--engine", help="Override the layout's extraction engine."),
+    ] = None,
+    password: Annotated[
+        Optional[str],  # noqa: UP045
+        typer.Option("--password", help="Password for encrypted PDFs."),
+    ] = None,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing but errors.")] = False,
+) -> None:
+    """Audit certificates: extract the schedule, run every check, write HTML/JSON/CSV reports."""
+    from certvet.api import expand_inputs
+
+    if not layout:
+        _err("give at least one --layout (a layout file or a folder of them)")
+        raise typer.Exit(EXIT_USAGE)
+    layouts, prof = _load_inputs(layout, profile)
+    files = expand_inputs(pdfs)
+    if not files:
+        _err("no PDF files found in the given paths")
+        raise typer.Exit(EXIT_FAILED)
+    code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet)
+    raise typer.Exit(code)
+
+
+@app.command()
+def demo(
+    out: Annotated[Path, typer.Option("--out", "-o", help="Folder for the reports.")] = Path(
+        "certvet-out/demo"
+    ),
+) -> None:
+    """Audit the bundled demo certificates (fixtures/demo) with their layouts."""
+    from certvet.api import demo_inputs
+    from extractor.errors import InputError
+
+    try:
+        pdfs, layouts = demo_inputs()
+    except InputError as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_FAILED) from None
+    from checks.profile import DEFAULT_PROFILE
+
+    code = _run_batch(pdfs, layouts, DEFAULT_PROFILE, out, None, None, False)
+    typer.echo(f"Open {out / (pdfs[0].stem + '.html')} in a browser to read a report.")
+    # The demo deliberately includes faulty certificates: finding them is success.
+    raise typer.Exit(EXIT_FAILED if code == EXIT_FAILED else EXIT_CLEAN)
+
+
+@app.command("checks")
+def list_checks() -> None:
+    """List the catalogue of checks with their severity and reference."""
+    from checks.describe import catalogue_rows
+
+    for row in catalogue_rows():
+        typer.echo(f"{row.id:<34} {row.severity:<11} {row.title}")
+        typer.echo(f"{'':<34} {'':<11} ref: {row.reference}")
+
+
+@app.command()
+def explain(check_id: Annotated[str, typer.Argument(help="A check id, see `certvet checks`.")]) -> None:
+    """Explain one check: what it checks, why, false alarms, examples, options, reference."""
+    from checks.describe import explain_check
+
+    try:
+        typer.echo(explain_check(check_id))
+    except KeyError as exc:
+        _err(str(exc.args[0]))
+        raise typer.Exit(EXIT_USAGE) from None
+
+
+@app.command()
+def fields() -> None:
+    """List the canonical fields a layout can map columns and labels to."""
+    from extractor.fields import BOARD_FIELDS, CERTIFICATE_FIELDS, CIRCUIT_FIELDS
+
+    for title, specs in (("circuit (columns)", CIRCUIT_FIELDS), ("board", BOARD_FIELDS),
+                         ("certificate", CERTIFICATE_FIELDS)):
+        typer.echo(f"{title}:")
+        for f in specs:
+            unit = f" [{f.unit}]" if f.unit else ""
+            typer.echo(f"  {f.name:<24} {f.kind.value:<8} {f.label}{unit}")
+
+
+@app.command("check-layout")
+def check_layout(
+    layouts: Annotated[list[Path], typer.Argument(help="Layout files or folders to validate.")],
+) -> None:
+    """Validate layout files; print one line per problem."""
+    from extractor.layout import LayoutError, load_layout
+
+    bad = 0
+    files: list[Path] = []
+    for p in layouts:
+        files.extend(sorted(p.rglob("*.toml")) if p.is_dir() else [p])
+    for f in files:
+        try:
+            lay = load_layout(f)
+            typer.echo(f"ok       {f} (form {lay.name}, {len(lay.columns)} columns)")
+        except LayoutError as exc:
+            bad += 1
+            typer.echo(f"invalid  {exc}")
+    raise typer.Exit(EXIT_USAGE if bad else EXIT_CLEAN)
+
+
+def _mount_optional() -> None:
+    """Sub-command modules written as separate units mount themselves here when present."""
+    import importlib
+
+    for name in ("certvet.cli_layouts", "certvet.cli_batch"):
+        try:
+            mod = importlib.import_module(name)
+        except ModuleNotFoundError as exc:
+            if exc.name != name:
+                raise
+            continue
+        mod.register(app)
+
+
+_mount_optional()
+
+
+def main() -> None:
+    app()
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,276 @@
+"""The supply: Ze for the earthing system, prospective fault current, breaking capacity."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from dataclasses import dataclass
+
+from checks.base import CertificateCheck, CircuitCheck, fmt, option
+from checks.catalogue.loop import earthing_of, origin_ze
+from checks.model import Finding, Severity
+from checks.registry import register
+from checks.tables import declared_ze
+from extractor.records import Board, Certificate, Circuit, Value, ValueKind
+
+
+def kiloamps(v: Value) -> float | None:
+    """A prospective fault current or breaking capacity in kA.
+
+    Numbers written without a unit above 100 are taken as amperes ("1600" → 1.6 kA): no
+    domestic or small commercial supply reaches 100 kA, and forms often print amperes.
+    """
+    if v.kind is not ValueKind.NUMBER or v.number is None:
+        return None
+    return v.number / 1000 if v.number > 100 else v.number
+
+
+@register
+class ZeTypicalForEarthing(CertificateCheck):
+    """Ze at the origin should fit the recorded earthing system.
+
+    What it checks:
+    Ze at the origin (the certificate's, else the first board's) against the value network
+    operators commonly declare as the maximum for the earthing system: above 0.35 Ω on
+    TN-C-S or 0.8 Ω on TN-S is queried; on TT, a Ze below tt_min_ohm suggests the
+    installation is in fact connected to the network's earth.
+
+    Why it matters:
+    A Ze above the declared maximum means a poor supply earth, a Ze measured at a sub-board,
+    or the wrong earthing system recorded; all change which limits apply.
+
+    Known false alarms:
+    Supplies whose operator declares a different figure; rural TN-S supplies with long
+    service cables; a TT electrode in very low-resistance ground.
+
+    Failing example:
+    TN-C-S, Ze = 0.62 Ω; TT, Ze = 0.30 Ω.
+
+    Passing example:
+    TN-C-S, Ze = 0.24 Ω; TT, Ze = 95 Ω.
+
+    Options:
+    tolerance_ohm: excess over the declared figure treated as rounding.
+    tt_min_ohm: TT Ze below this suggests a network earth.
+
+    Reference:
+    Common practice, no source (figures network operators commonly declare: TN-C-S 0.35 Ω,
+    TN-S 0.8 Ω; checks/data/declared_ze.csv).
+    """
+
+    id = "ze-typical-for-earthing"
+    title = "Supply: Ze fits the recorded earthing system"
+    severity = Severity.QUERY
+    reference = "Common practice, no source (network operators' declared Ze: 0.35 Ω / 0.8 Ω)"
+    basis = "common practice"
+    group = "supply"
+
+    @dataclass(frozen=True)
+    class Options:
+        tolerance_ohm: float = option(
+            0.01, "common practice, no source", "excess over the declared Ze treated as rounding"
+        )
+        tt_min_ohm: float = option(
+            1.0, "common practice, no source", "a TT Ze below this suggests a network earth"
+        )
+
+    def check_certificate(self, cert: Certificate) -> Iterable[Finding] | None:
+        ze, board, field = origin_ze(cert)
+        earthing = earthing_of(cert, board)
+        if ze is None or earthing not in ("TN-C-S", "TN-S", "TT"):
+            return None
+        if earthing == "TT":
+            if ze >= self.options.tt_min_ohm:
+                return []
+            return [
+                self.make(
+                    cert,
+                    f"Ze {fmt(ze, 'Ω')} is far lower than a TT electrode gives; check whether the "
+                    "installation is in fact on the network's earth (TN).",
+                    board=board,
+                    field=field,
+                    expected=f"≥ {self.options.tt_min_ohm:g} Ω for TT",
+                )
+            ]
+        declared = declared_ze(earthing)
+        if declared is None or ze <= declared + self.options.tolerance_ohm + 1e-9:
+            return []
+        return [
+            self.make(
+                cert,
+                f"Ze {fmt(ze, 'Ω')} is above the {fmt(declared, 'Ω')} commonly declared for "
+                f"{earthing}; check the supply earth, where Ze was measured and the recorded "
+                "earthing system.",
+                board=board,
+                field=field,
+                expected=f"≤ {fmt(declared, 'Ω')}",
+            )
+        ]
+
+
+@register
+class IpfConsistentWithZe(CertificateCheck):
+    """The recorded prospective fault current should fit U0 / Ze.
+
+    What it checks:
+    For the origin (certificate Ze and Ipf) and for each board with its own Ze and Ipf, the
+    ratio of the recorded Ipf to the earth fault current U0 / Ze: below min_ratio is
+    reported on any system; above max_ratio on TN-C-S (where the short-circuit and earth
+    fault loops are nearly the same). On TN-S and TT the short-circuit current may be far
+    higher than U0 / Ze, so only the lower side is checked.
+
+    Why it matters:
+    Ipf is the larger of the short-circuit and earth fault currents, so it cannot be much
+    below U0 / Ze; a figure that does not fit Ze was copied, calculated from the wrong Ze,
+    or recorded in the wrong unit.
+
+    Known false alarms:
+    Instruments that compute Ipf at the measured voltage (up to 253 V) rather than 230 V;
+    Ze and Ipf measured at different times of day.
+
+    Failing example:
+    TN-C-S, Ze = 0.25 Ω (920 A), Ipf = 0.3 kA.
+
+    Passing example:
+    TN-C-S, Ze = 0.25 Ω, Ipf = 0.92 kA.
+
+    Options:
+    u0_v: nominal voltage to earth.
+    min_ratio: smallest accepted Ipf / (U0/Ze).
+    max_ratio: largest accepted Ipf / (U0/Ze) on TN-C-S.
+
+    Reference:
+    BS 7671:2018+A2:2022 Reg 643.7.3.201 (prospective fault current, from memory); ratios:
+    common practice, no source.
+    """
+
+    id = "ipf-consistent-with-ze"
+    title = "Supply: prospective fault current fits Ze"
+    severity = Severity.QUERY
+    reference = (
+        "Common practice, no source (Ipf ≈ U0/Ze); test: BS 7671:2018+A2:2022 "
+        "Reg 643.7.3.201 (from memory)"
+    )
+    basis = "common practice"
+    group = "supply"
+
+    @dataclass(frozen=True)
+    class Options:
+        u0_v: float = option(
+            230.0,
+            "UK nominal voltage 230 V (Electricity Safety, Quality and Continuity Regulations "
+            "2002)",
+            "nominal U0 in volts",
+        )
+        min_ratio: float = option(0.67, "common practice, no source", "smallest Ipf / (U0/Ze)")
+        max_ratio: float = option(
+            2.0, "common practice, no source", "largest Ipf / (U0/Ze) on TN-C-S"
+        )
+
+    def check_certificate(self, cert: Certificate) -> Iterable[Finding] | None:
+        pairs: list[tuple[Board | None, float | None, float | None]] = [
+            (None, cert.number("ze"), kiloamps(cert.value("ipf")))
+        ]
+        pairs += [(b, b.number("ze"), kiloamps(b.value("ipf"))) for b in cert.boards]
+        found: list[Finding] = []
+        applied = False
+        o = self.options
+        for board, ze, ipf in pairs:
+            if ze is None or ipf is None or ze <= 0:
+                continue
+            applied = True
+            pefc = o.u0_v / ze / 1000
+            ratio = ipf / pefc
+            earthing = earthing_of(cert, board)
+            too_low = ratio < o.min_ratio
+            too_high = earthing == "TN-C-S" and ratio > o.max_ratio
+            if not (too_low or too_high):
+                continue
+            where = f"board {board.ref}" if board else "the origin"
+            found.append(
+                self.make(
+                    cert,
+                    f"Ipf {ipf:.2f} kA at {where} is {ratio:.1f} × the {pefc:.2f} kA that Ze "
+                    f"{fmt(ze, 'Ω')} gives at {o.u0_v:g} V; one of the two is wrong.",
+                    board=board,
+                    field="ipf",
+                    expected=f"{pefc * o.min_ratio:.2f}–{pefc * o.max_ratio:.2f} kA"
+                    if earthing == "TN-C-S" else f"≥ {pefc * o.min_ratio:.2f} kA",
+                )
+            )
+        return found if applied else None
+
+
+@register
+class IpfOverBreakingCapacity(CircuitCheck):
+    """A device's breaking capacity must not be below the prospective fault current.
+
+    What it checks:
+    On a circuit with a breaking capacity recorded, that the prospective fault current at its
+    board (the board's Ipf, else the certificate's) is not above it.
+
+    Why it matters:
+    A device asked to break more current than it is rated for can fail to clear the fault
+    or be destroyed doing so, with arcing and fire inside the board.
+
+    Known false alarms:
+    BS EN 60898 circuit-breakers in a consumer unit to BS EN 61439-3 may rely on the
+    upstream BS 88-3 fuse (100 A or less) for a conditional short-circuit rating up to
+    16 kA (from memory): a 6 kA device on a 7 kA supply can then be acceptable. Set
+    conditional_rating_ka to 16 to accept those.
+
+    Failing example:
+    Ipf = 7.2 kA, breaking capacity 6 kA.
+
+    Passing example:
+    Ipf = 1.4 kA, breaking capacity 6 kA.
+
+    Options:
+    conditional_rating_ka: accept Ipf up to this (0 = off), for devices in assemblies with a
+    conditional short-circuit rating.
+
+    Reference:
+    BS 7671:2018+A2:2022 Reg 434.5.1 (breaking capacity not less than the prospective fault
+    current, from memory); BS EN 61439-3 conditional rating, from memory.
+    """
+
+    id = "ipf-over-breaking-capacity"
+    title = "Supply: prospective fault current above a device's breaking capacity"
+    severity = Severity.BREACH
+    reference = "BS 7671:2018+A2:2022 Reg 434.5.1 (from memory)"
+    basis = "from memory"
+    group = "supply"
+
+    @dataclass(frozen=True)
+    class Options:
+        conditional_rating_ka: float = option(
+            0.0,
+            "BS EN 61439-3 conditional short-circuit rating, commonly 16 kA (from memory)",
+            "accept Ipf up to this many kA where the assembly is conditionally rated; 0 = off",
+        )
+
+    def check_circuit(
+        self, cert: Certificate, board: Board, circuit: Circuit
+    ) -> Iterable[Finding] | None:
+        capacity = kiloamps(circuit.value("breaking_capacity"))
+        ipf = kiloamps(board.value("ipf"))
+        where = f"board {board.ref}"
+        if ipf is None:
+            ipf = kiloamps(cert.value("ipf"))
+            where = "the origin"
+        if capacity is None or ipf is None:
+            return None
+        if ipf <= capacity + 1e-9:
+            return []
+        if self.options.conditional_rating_ka > 0 and ipf <= self.options.conditional_rating_ka:
+            return []
+        return [
+            self.make(
+                cert,
+                f"Prospective fault current {ipf:.2f} kA at {where} is above the device's "
+                f"breaking capacity of {capacity:g} kA.",
+                board=board,
+                circuit=circuit,
+                field="breaking_capacity",
+                expected=f"≥ {ipf:.2f} kA",
+            )
+        ]

@@ -1,0 +1,121 @@
+"""The extractor's entry points: open a PDF with an engine, recognise its form, extract records.
+
+PDF libraries are imported lazily (inside the engines), so importing this module is cheap.
+"""
+
+from __future__ import annotations
+
+import hashlib
+from collections.abc import Iterator, Sequence
+from typing import TYPE_CHECKING
+
+from extractor.assemble import assemble, group_lines
+from extractor.errors import InputError, NoLayoutMatches
+
+if TYPE_CHECKING:
+    from extractor.engines.base import Engine, OpenDocument, PageContent
+    from extractor.layout import Layout
+    from extractor.records import Certificate
+
+ENGINE_NAMES = ("words", "plumber", "pdfium", "lattice")
+
+
+def get_engine(name: str, path: str = "<engine>") -> Engine:
+    """The engine for a layout's `engine` value ("words" is the pdfplumber engine)."""
+    if name in ("words", "plumber"):
+        from extractor.engines.plumber import PlumberEngine
+
+        return PlumberEngine()
+    if name == "pdfium":
+        try:
+            from extractor.engines import pdfium
+        except ImportError as exc:
+            raise InputError(path, f"engine 'pdfium' is not available ({exc}); use engine 'words'") from None
+        return pdfium.PdfiumEngine()  # type: ignore[no-any-return]
+    if name == "lattice":
+        raise InputError(path, "engine 'lattice' is not implemented yet; use engine 'words' or 'pdfium'")
+    raise InputError(path, f"unknown engine {name!r} (choose from {', '.join(ENGINE_NAMES)})")
+
+
+def open_document(path: str, engine: str = "words", password: str | None = None) -> OpenDocument:
+    return get_engine(engine, path).open(str(path), password)
+
+
+def _pages_checked(path: str, doc: OpenDocument, limit: int | None = None) -> Iterator[PageContent]:
+    """Pages of an open document; raises InputError when no page has any text at all."""
+    chars = 0
+    seen = 0
+    for page in doc.pages():
+        chars += page.char_count
+        seen += 1
+        yield page
+        if limit is not None and seen >= limit:
+            break
+    if seen and chars == 0:
+        raise InputError(path, "no text layer (image-only pages); OCR is out of scope")
+
+
+def page_text(path: str, *, pages: int | None = None, engine: str = "words",
+              password: str | None = None) -> list[str]:
+    """Plain text of each page (lines of horizontal words top to bottom), first `pages` pages."""
+    doc = open_document(path, engine, password)
+    try:
+        return [
+            "\n".join(ln.text for ln in group_lines(p.words, 3.0))
+            for p in _pages_checked(path, doc, pages)
+        ]
+    finally:
+        doc.close()
+
+
+def recognise(path: str, layouts: Sequence[Layout], *, password: str | None = None) -> Layout | None:
+    """The first layout whose `recognise.require` patterns all match its first pages' text."""
+    if not layouts:
+        return None
+    most = max(lay.recognise.pages for lay in layouts)
+    texts = page_text(path, pages=most, password=password)
+    for lay in layouts:
+        text = "\n".join(texts[: lay.recognise.pages])
+        if all(p.search(text) for p in lay.recognise.require):
+            return lay
+    return None
+
+
+def file_sha256(path: str) -> str:
+    h = hashlib.sha256()
+    try:
+        with open(path, "rb") as fh:
+            for block in iter(lambda: fh.read(1 << 20), b""):
+                h.update(block)
+    except OSError as exc:
+        raise InputError(path, f"cannot read file: {exc.strerror or exc}") from None
+    return h.hexdigest()
+
+
+def extract(path: str, layout: Layout, *, engine: str | None = None,
+            password: str | None = None) -> Certificate:
+    """Read a certificate PDF with a layout; InputError (one line) when it cannot be read."""
+    path = str(path)
+    name = engine or layout.engine
+    eng = get_engine(name, path)
+    doc = eng.open(path, password)
+    try:
+        sha = file_sha256(path)
+        cert = assemble(
+            _pages_checked(path, doc),
+            layout,
+            source=path,
+            sha256=sha,
+            engine_name=eng.name,
+            page_count=doc.page_count,
+        )
+    finally:
+        doc.close()
+    if not cert.boards:
+        heads = ", ".join(c.header.pattern for c in layout.columns if c.header is not None)
+        raise NoLayoutMatches(
+            path, f"layout {layout.name!r} found no schedule (looked for column headers {heads})"
+        )
+    if not any(bd.circuits for bd in cert.boards):
+        raise NoLayoutMatches(path, f"layout {layout.name!r} found the schedule but no circuit rows")
+    return cert

@@ -1,0 +1,682 @@
+"""Apply a layout to page contents: header, columns, rows, boards, certificate values.
+
+Shared by every engine: engines that read the same words and rules produce the same
+`Certificate`. Everything here is plain geometry over `Word`s and `Rule`s in points with the
+origin at the top-left of the displayed page.
+
+Per schedule page:
+1. Words outside the layout's `region` and lines matching `ignore` are dropped.
+2. Header candidates are built: the cells of the ruled grid when the page has ruling lines,
+   and text blocks otherwise (phrases on a line, stacks of phrases in one x-band, clusters of
+   vertical words). Each column's `header` pattern is searched in the candidates' text.
+3. Every place where the row-key column's header is found with enough other headers around it
+   is one table header ("header instance"); its data runs down to the next header, the next
+   board heading, a line matching `end`, or the page/region bottom.
+4. Rows: the bands between horizontal rules (ruled tables), or lines anchored on a row key
+   with continuation lines joined to the row above (unruled tables).
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+
+from extractor.engines.base import PageContent, Rule, Word
+from extractor.engines.words import is_unreadable
+from extractor.fields import BOARD, CERTIFICATE, FIELDS
+from extractor.layout import ColumnSpec, LabelSpec, Layout
+from extractor.records import (
+    Board,
+    Box,
+    Cell,
+    Certificate,
+    Circuit,
+    ExtractionProblem,
+    Value,
+    ValueKind,
+)
+from extractor.tokens import parse_value
+
+SNAP = 1.5  # rule positions closer than this (points) are the same grid line
+HEADER_SHARE = 0.4  # share of header columns that must be found around a row-key header
+
+
+# --- text lines -----------------------------------------------------------------------------
+
+
+@dataclass
+class Line:
+    words: list[Word]
+    top: float
+    bottom: float
+    text: str
+    spans: list[tuple[int, int]]  # character span of each word in `text`
+
+    def words_in_span(self, start: int, end: int) -> list[Word]:
+        return [w for w, (a, b) in zip(self.words, self.spans, strict=True) if a < end and b > start]
+
+
+def _centre_y(w: Word) -> float:
+    return (w.top + w.bottom) / 2
+
+
+def _centre_x(w: Word) -> float:
+    return (w.x0 + w.x1) / 2
+
+
+def make_line(words: Sequence[Word]) -> Line:
+    ws = sorted(words, key=lambda w: (w.x0, w.top, w.text))
+    parts: list[str] = []
+    spans: list[tuple[int, int]] = []
+    pos = 0
+    for w in ws:
+        if parts:
+            pos += 1
+        spans.append((pos, pos + len(w.text)))
+        parts.append(w.text)
+        pos += len(w.text)
+    return Line(ws, min(w.top for w in ws), max(w.bottom for w in ws), " ".join(parts), spans)
+
+
+def group_lines(words: Iterable[Word], tolerance: float) -> list[Line]:
+    """Horizontal words grouped into lines by vertical centre (within `tolerance` points)."""
+    ws = sorted((w for w in words if not w.vertical), key=lambda w: (_centre_y(w), w.x0, w.text))
+    groups: list[list[Word]] = []
+    mean = 0.0
+    for w in ws:
+        c = _centre_y(w)
+        if groups and abs(c - mean) <= tolerance:
+            groups[-1].append(w)
+            mean += (c - mean) / len(groups[-1])
+        else:
+            groups.append([w])
+            mean = c
+    return [make_line(g) for g in groups]
+
+
+def _vertical_lines(words: Sequence[Word]) -> list[list[Word]]:
+    """Vertical words grouped into lines of text (same x), in reading order."""
+    vs = sorted((w for w in words if w.vertical), key=lambda w: (_centre_x(w), w.top))
+    groups: list[list[Word]] = []
+    for w in vs:
+        if groups and abs(_centre_x(w) - _centre_x(groups[-1][0])) <= max(w.size * 0.4, 1.0):
+            groups[-1].append(w)
+        else:
+            groups.append([w])
+    for g in groups:
+        g.sort(key=lambda w: -w.bottom if w.direction != "ttb" else w.top)
+    if groups and all(g[0].direction == "ttb" for g in groups):
+        groups.reverse()  # text turned clockwise: its first line is the right-most
+    return groups
+
+
+def text_of(words: Sequence[Word], tolerance: float = 3.0) -> str:
+    """Text of a block of words: horizontal lines top to bottom, then vertical lines."""
+    parts = [ln.text for ln in group_lines(words, tolerance)]
+    parts += [" ".join(w.text for w in g) for g in _vertical_lines(words)]
+    return " ".join(parts)
+
+
+def union_box(page: int, words: Sequence[Word]) -> Box:
+    return Box(
+        page,
+        min(w.x0 for w in words),
+        min(w.top for w in words),
+        max(w.x1 for w in words),
+        max(w.bottom for w in words),
+    )
+
+
+# --- ruling lines and grid cells ------------------------------------------------------------
+
+
+def _merge_segments(segs: list[tuple[float, float, float]]) -> dict[float, list[tuple[float, float]]]:
+    """(position, start, end) segments → position → merged [start, end] intervals."""
+    out: dict[float, list[tuple[float, float]]] = {}
+    keys: list[float] = []
+    for pos, a, b in sorted(segs):
+        key = next((k for k in keys if abs(k - pos) <= SNAP), None)
+        if key is None:
+            key = pos
+            keys.append(key)
+        out.setdefault(key, []).append((min(a, b), max(a, b)))
+    for key, ivs in out.items():
+        ivs.sort()
+        merged: list[tuple[float, float]] = []
+        for a, b in ivs:
+            if merged and a <= merged[-1][1] + SNAP:
+                merged[-1] = (merged[-1][0], max(merged[-1][1], b))
+            else:
+                merged.append((a, b))
+        out[key] = merged
+    return out
+
+
+def _covers(ivs: list[tuple[float, float]] | None, a: float, b: float) -> bool:
+    return bool(ivs) and any(s <= a + SNAP and e >= b - SNAP for s, e in ivs or ())
+
+
+@dataclass
+class Grid:
+    hs: dict[float, list[tuple[float, float]]]  # y → x-intervals
+    vs: dict[float, list[tuple[float, float]]]  # x → y-intervals
+
+    @classmethod
+    def from_rules(cls, rules: Sequence[Rule]) -> Grid:
+        h = [((r.top + r.bottom) / 2, r.x0, r.x1) for r in rules if r.horizontal]
+        v = [((r.x0 + r.x1) / 2, r.top, r.bottom) for r in rules if not r.horizontal]
+        return cls(_merge_segments(h), _merge_segments(v))
+
+    def cells(self) -> list[tuple[float, float, float, float]]:
+        """Smallest rectangles closed by rules on all four sides."""
+        ys = sorted(self.hs)
+        xs = sorted(self.vs)
+        out = []
+        for j, y0 in enumerate(ys):
+            for i, x0 in enumerate(xs):
+                if not _covers(self.hs[y0], x0, x0 + 2 * SNAP):
+                    continue
+                if not _covers(self.vs[x0], y0, y0 + 2 * SNAP):
+                    continue
+                for x1 in xs[i + 1 :]:
+                    if not _covers(self.hs[y0], x0, x1):
+                        x1 = -1.0
+                        break
+                    if _covers(self.vs[x1], y0, y0 + 2 * SNAP):
+                        break
+                else:
+                    x1 = -1.0
+                if x1 < 0:
+                    continue
+                for y1 in ys[j + 1 :]:
+                    if not (_covers(self.vs[x0], y0, y1) and _covers(self.vs[x1], y0, y1)):
+                        break
+                    if _covers(self.hs[y1], x0, x1):
+                        out.append((x0, y0, x1, y1))
+                        break
+        return out
+
+    def row_rules(self, x: float, top: float, bottom: float) -> list[float]:
+        """y of horizontal rules crossing x between top and bottom (inclusive, snapped)."""
+        return [y for y in sorted(self.hs) if top - SNAP <= y <= bottom + SNAP and _covers(self.hs[y], x, x)]
+
+
+# --- header candidates ----------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class Cand:
+    text: str
+    x0: float
+    top: float
+    x1: float
+    bottom: float
+    nwords: int
+    ruled: bool
+
+    @property
+    def cx(self) -> float:
+        return (self.x0 + self.x1) / 2
+
+
+def _cand(words: Sequence[Word], ruled: bool, box: tuple[float, float, float, float] | None = None,
+          tolerance: float = 3.0) -> Cand:
+    b = box or (
+        min(w.x0 for w in words), min(w.top for w in words),
+        max(w.x1 for w in words), max(w.bottom for w in words),
+    )
+    return Cand(text_of(words, tolerance), *b, len(words), ruled)
+
+
+def _inside(w: Word, box: tuple[float, float, float, float]) -> bool:
+    cx, cy = _centre_x(w), _centre_y(w)
+    return box[0] <= cx <= box[2] and box[1] <= cy <= box[3]
+
+
+def grid_candidates(words: Sequence[Word], cells: Sequence[tuple[float, float, float, float]],
+                    tolerance: float) -> list[Cand]:
+    out = []
+    for box in cells:
+        inside = [w for w in words if _inside(w, box)]
+        if inside:
+            out.append(_cand(inside, True, box, tolerance))
+    return out
+
+
+def text_candidates(lines: Sequence[Line], words: Sequence[Word]) -> list[Cand]:
+    """Phrases on a line, stacks of up to three phrases in one x-band, vertical word clusters."""
+    phrases: list[list[list[Word]]] = []  # per line: phrases (lists of words)
+    out: list[Cand] = []
+    for ln in lines:
+        row: list[list[Word]] = []
+        for w in ln.words:
+            if row and w.x0 - row[-1][-1].x1 <= max(w.size, 4.0):
+                row[-1].append(w)
+            else:
+                row.append([w])
+        phrases.append(row)
+        for p in row:
+            out.append(_cand(p, False))
+            if len(p) > 1:
+                out.extend(_cand([w], False) for w in p)
+
+    def mutual(a: Cand, b: Cand) -> bool:
+        return a.x0 <= b.cx <= a.x1 and b.x0 <= a.cx <= b.x1
+
+    for i, row in enumerate(phrases):
+        for p in row:
+            stack = [p]
+            last = _cand(p, False)
+            for k in range(i + 1, min(i + 3, len(phrases))):
+                gap_ok = lines[k].top - lines[k - 1].bottom <= max(w.size for w in p)
+                nxt = [q for q in phrases[k] if mutual(last, _cand(q, False))]
+                if not gap_ok or len(nxt) != 1:
+                    break
+                stack.append(nxt[0])
+                last = _cand(nxt[0], False)
+                out.append(_cand([w for s in stack for w in s], False))
+
+    verts = [w for w in words if w.vertical]
+    clusters: list[list[Word]] = []
+    for w in sorted(verts, key=lambda w: (w.x0, w.top)):
+        joined = None
+        for c in clusters:
+            if any(
+                w.x0 - o.x1 <= 0.6 * max(w.size, 1.0) and o.x0 - w.x1 <= 0.6 * max(w.size, 1.0)
+                and w.top - o.bottom <= w.size and o.top - w.bottom <= w.size
+                for o in c
+            ):
+                joined = c
+                break
+        if joined is None:
+            clusters.append([w])
+        else:
+            joined.append(w)
+    out.extend(_cand(c, False) for c in clusters)
+    return out
+
+
+# --- header instances -----------------------------------------------------------------------
+
+
+@dataclass
+class Header:
+    top: float
+    bottom: float
+    ruled: bool
+    found: dict[int, Cand]  # column index → its header candidate
+    missing: list[int]
+
+
+def _pref(c: Cand) -> tuple[float, ...]:
+    # Prefer the smallest block (a sub-label over its group label), then the top-most.
+    return (c.nwords, c.x1 - c.x0 if c.ruled else 0.0, c.top, c.x0)
+
+
+def find_headers(columns: Sequence[ColumnSpec], cands: Sequence[Cand], anchor: int,
+                 slack: float) -> list[Header]:
+    hdr_cols = [i for i, c in enumerate(columns) if c.header is not None]
+    matches = {
+        i: sorted((c for c in cands if columns[i].header.search(c.text)), key=_pref)  # type: ignore[union-attr]
+        for i in hdr_cols
+    }
+    need = max(1, min(2, len(hdr_cols)), int(HEADER_SHARE * len(hdr_cols) + 0.999))
+    headers: list[Header] = []
+    for a in sorted(matches[anchor], key=lambda c: (c.top, c.x0)):
+        if headers and a.top < headers[-1].bottom:
+            continue
+        lo, hi = a.top - slack, a.bottom + slack
+        options = {
+            i: [c for c in matches[i] if c.bottom >= lo and c.top <= hi and c.ruled == a.ruled]
+            for i in hdr_cols
+            if i != anchor
+        }
+        chosen: dict[int, Cand] = {anchor: a}
+        claimed = {a}
+        pending = dict(options)
+        while pending:
+            # columns with fewest unclaimed options choose first (a specific pattern
+            # keeps its only cell from a looser pattern)
+            def free(i: int) -> list[Cand]:
+                return [c for c in pending[i] if c not in claimed and not _overlaps_any(c, claimed)]
+
+            i = min(pending, key=lambda k: (len(free(k)) if free(k) else 1_000_000, k))
+            opts = free(i)
+            del pending[i]
+            if opts:
+                chosen[i] = opts[0]
+                claimed.add(opts[0])
+        if len(chosen) < need:
+            continue
+        top = min(c.top for c in chosen.values())
+        bottom = max(c.bottom for c in chosen.values())
+        headers.append(Header(top, bottom, a.ruled, chosen, [i for i in hdr_cols if i not in chosen]))
+    return headers
+
+
+def _overlaps_any(c: Cand, others: Iterable[Cand]) -> bool:
+    """True when c shares area with a chosen candidate (a word cannot head two columns)."""
+    for o in others:
+        ox = min(c.x1, o.x1) - max(c.x0, o.x0)
+        oy = min(c.bottom, o.bottom) - max(c.top, o.top)
+        if ox > 0.5 and oy > 0.5 and not (c.ruled and o.ruled):
+            return True
+    return False
+
+
+# --- columns --------------------------------------------------------------------------------
+
+
+def column_extents(columns: Sequence[ColumnSpec], header: Header, cands: Sequence[Cand],
+                   left: float, right: float) -> dict[int, tuple[float, float]]:
+    ext: dict[int, tuple[float, float]] = {}
+    if header.ruled:
+        for i, c in header.found.items():
+            ext[i] = (c.x0, c.x1)
+    else:
+        # Boundaries midway between neighbouring header labels; labels no column claims
+        # (columns the layout does not read) keep their own share of the width.
+        anchors: list[tuple[Cand, int | None]] = [(c, i) for i, c in header.found.items()]
+        chosen = list(header.found.values())
+        for c in cands:
+            if c.ruled or c.nwords != 1 and any(c.x0 < o.cx < c.x1 for o in chosen):
+                continue
+            if c.bottom < header.top or c.top > header.bottom:
+                continue
+            if any(min(c.x1, o.x1) - max(c.x0, o.x0) > 0 for o in chosen):
+                continue
+            if any(min(c.x1, o.x1) - max(c.x0, o.x0) > 0 for o, _ in anchors):
+                continue
+            anchors.append((c, None))
+        anchors.sort(key=lambda t: (t[0].cx, t[0].x0))
+        for k, (c, i) in enumerate(anchors):
+            if i is None:
+                continue
+            lo = left if k == 0 else _boundary(anchors[k - 1][0], c)
+            hi = right if k == len(anchors) - 1 else _boundary(c, anchors[k + 1][0])
+            ext[i] = (lo, hi)
+    for i, col in enumerate(columns):
+        if col.x is not None:
+            ext[i] = col.x
+    return ext
+
+
+def _boundary(a: Cand, b: Cand) -> float:
+    """Edge between neighbouring unruled columns: the middle of the gap between their labels
+    (right for left-aligned and centred labels alike), or midway between centres when the
+    labels overlap."""
+    if a.x1 <= b.x0:
+        return (a.x1 + b.x0) / 2
+    return (a.cx + b.cx) / 2
+
+
+# --- building records -----------------------------------------------------------------------
+
+
+@dataclass
+class _Row:
+    page: int
+    top: float
+    bottom: float
+    words: dict[int, list[Word]] = field(default_factory=dict)
+
+
+def _words_to_columns(words: Iterable[Word], ext: dict[int, tuple[float, float]]) -> dict[int, list[Word]]:
+    out: dict[int, list[Word]] = {}
+    fixed_first = sorted(ext.items(), key=lambda kv: (kv[1][1] - kv[1][0], kv[0]))
+    for w in words:
+        cx = _centre_x(w)
+        for i, (a, b) in fixed_first:
+            if a <= cx <= b:
+                out.setdefault(i, []).append(w)
+                break
+    return out
+
+
+def _phrases_to_columns(words: Sequence[Word], ext: dict[int, tuple[float, float]]) -> dict[int, list[Word]]:
+    """Unruled rows: words closer than half an em form a phrase, and a phrase goes whole to the
+    column it overlaps most (a description wider than its label stays in its column)."""
+    phrases: list[list[Word]] = []
+    for w in sorted(words, key=lambda w: (w.x0, w.top)):
+        if phrases and w.x0 - phrases[-1][-1].x1 <= 0.5 * max(w.size, 1.0):
+            phrases[-1].append(w)
+        else:
+            phrases.append([w])
+    out: dict[int, list[Word]] = {}
+    for p in phrases:
+        x0, x1 = p[0].x0, max(w.x1 for w in p)
+        cx = (x0 + x1) / 2
+        best = max(
+            ext.items(),
+            key=lambda kv: (min(x1, kv[1][1]) - max(x0, kv[1][0]), kv[1][0] <= cx <= kv[1][1], -kv[0]),
+        )
+        if min(x1, best[1][1]) - max(x0, best[1][0]) > 0:
+            out.setdefault(best[0], []).extend(p)
+    return out
+
+
+def _split(text: str, sep: str, n: int) -> list[str]:
+    if not text.strip():
+        return [""] * n
+    v = parse_value(text, FIELDS["circuit_ref"].kind)  # TEXT kind: only classifies the tokens
+    if v.kind in (ValueKind.NOT_APPLICABLE, ValueKind.LIMITATION, ValueKind.DASH):
+        return [text] * n  # one "N/A" (or LIM, dash) for the whole cell holds for every part
+    if sep not in text:
+        return [text] + [""] * (n - 1)
+    parts = [p.strip() for p in text.split(sep, n - 1)]
+    return parts + [""] * (n - len(parts))
+
+
+def _value(text: str, field_name: str) -> Value:
+    spec = FIELDS.get(field_name) or BOARD.get(field_name) or CERTIFICATE[field_name]
+    if text and is_unreadable(text):
+        return Value(ValueKind.UNREADABLE, text, problem="characters the PDF does not map to text")
+    return parse_value(text, spec.kind, spec.unit)
+
+
+class _Builder:
+    def __init__(self, layout: Layout, cert: Certificate) -> None:
+        self.layout = layout
+        self.cert = cert
+        self.boards: dict[str, Board] = {}
+        self.current: Board | None = None
+
+    def board(self, ref: str, page: int) -> Board:
+        b = self.boards.get(ref)
+        if b is None:
+            b = Board(ref=ref, page=page)
+            self.boards[ref] = b
+            self.cert.boards.append(b)
+        self.current = b
+        return b
+
+    def problem(self, message: str, **kw: object) -> None:
+        self.cert.problems.append(ExtractionProblem(message, **kw))  # type: ignore[arg-type]
+
+    def cell(self, field_name: str, text: str, box: Box, board: str | None, circuit: str | None) -> Cell:
+        v = _value(text, field_name)
+        if v.kind is ValueKind.UNREADABLE:
+            self.problem(
+                f"cannot read {field_name}: {v.problem}",
+                field=field_name, board=board, circuit=circuit, raw=text, box=box,
+            )
+        return Cell(field_name, v, box)
+
+    def add_row(self, row: _Row, ext: dict[int, tuple[float, float]], board: Board) -> None:
+        cols = self.layout.columns
+        key_col = next(i for i, c in enumerate(cols) if self.layout.schedule.row_key in c.fields)
+        texts = {i: text_of(row.words.get(i, []), self.layout.schedule.line_tolerance) for i in ext}
+        if not any(t.strip() for t in texts.values()):
+            return
+        ref = " ".join(texts.get(key_col, "").split())
+        if not ref:
+            ws = [w for ws in row.words.values() for w in ws]
+            self.problem(
+                "row without a circuit reference skipped",
+                board=board.ref, raw=" | ".join(t for t in texts.values() if t), box=union_box(row.page, ws),
+            )
+            return
+        circuit = Circuit(board=board.ref, ref=ref, page=row.page)
+        for i, (x0, x1) in sorted(ext.items()):
+            col = cols[i]
+            ws = row.words.get(i, [])
+            box = union_box(row.page, ws) if ws else Box(row.page, x0, row.top, x1, row.bottom)
+            text = texts[i]
+            parts = _split(text, col.split, len(col.fields)) if col.split else [text]
+            for name, part in zip(col.fields, parts, strict=True):
+                circuit.cells[name] = self.cell(name, part, box, board.ref, ref)
+        board.circuits.append(circuit)
+
+
+def _label_matches(spec: LabelSpec, lines: Sequence[Line]) -> Iterable[tuple[str, list[Word]]]:
+    for ln in lines:
+        for m in spec.pattern.finditer(ln.text):
+            value = m.group("value")
+            if value is None:
+                continue
+            a, b = m.span("value")
+            ws = ln.words_in_span(a, b) or ln.words
+            yield " ".join(value.split()), ws
+            if not spec.collect_all:
+                break
+
+
+def assemble(
+    pages: Iterable[PageContent],
+    layout: Layout,
+    *,
+    source: str,
+    sha256: str,
+    engine_name: str,
+    page_count: int,
+) -> Certificate:
+    cert = Certificate(source, sha256, layout.name, engine_name, page_count)
+    b = _Builder(layout, cert)
+    collected: dict[str, tuple[list[str], list[Box]]] = {}
+    sched = layout.schedule
+    for page in pages:
+        lines_all = group_lines(page.words, sched.line_tolerance)
+        for spec in layout.certificate:
+            if spec.pages is not None and page.number not in spec.pages:
+                continue
+            if not spec.collect_all and spec.field in cert.cells:
+                continue
+            for value, ws in _label_matches(spec, lines_all):
+                box = union_box(page.number, ws)
+                if spec.collect_all:
+                    collected.setdefault(spec.field, ([], []))[0].append(value)
+                    collected[spec.field][1].append(box)
+                else:
+                    cert.cells[spec.field] = b.cell(spec.field, value, box, None, None)
+                    break
+        if not sched.page_selected(page.number, page_count):
+            continue
+        if sched.page_pattern and not sched.page_pattern.search("\n".join(ln.text for ln in lines_all)):
+            continue
+        _schedule_page(page, layout, b)
+    for name, (values, boxes) in collected.items():
+        box = boxes[0]
+        cert.cells[name] = b.cell(name, ", ".join(values), box, None, None)
+    return cert
+
+
+def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
+    sched = layout.schedule
+    region = sched.region or (0.0, 0.0, page.width, page.height)
+    words = [w for w in page.words if _inside(w, region)]
+    lines = group_lines(words, sched.line_tolerance)
+    dropped = {id(w) for ln in lines if any(p.search(ln.text) for p in sched.ignore) for w in ln.words}
+    words = [w for w in words if id(w) not in dropped]
+    lines = [ln for ln in lines if not any(id(w) in dropped for w in ln.words)]
+    rules = [r for r in page.rules if _rule_in(r, region)]
+    grid = Grid.from_rules(rules)
+    cells = grid.cells() if rules else []
+    cols = layout.columns
+    key_col = next(i for i, c in enumerate(cols) if sched.row_key in c.fields)
+    hdr_cols = [i for i, c in enumerate(cols) if c.header is not None]
+    if not hdr_cols:
+        return
+    anchor = key_col if cols[key_col].header is not None else hdr_cols[0]
+    sizes = sorted(w.size for w in words if w.size > 0)
+    size = sizes[len(sizes) // 2] if sizes else 8.0
+    headers: list[Header] = []
+    if cells:
+        headers = find_headers(cols, grid_candidates(words, cells, sched.line_tolerance), anchor, 3 * size)
+    cands: list[Cand] = []
+    if not headers:
+        cands = text_candidates(lines, words)
+        headers = find_headers(cols, cands, anchor, 3 * size)
+
+    starts = []
+    for ln in lines:
+        m = layout.board.start.search(ln.text)
+        if m and m.group("value"):
+            starts.append((ln, " ".join(m.group("value").split())))
+    first_top = headers[0].bottom if headers else region[1]
+    end_y = region[3]
+    for ln in lines:
+        if ln.top > first_top and any(p.search(ln.text) for p in sched.end):
+            end_y = ln.top
+            break
+
+    # board headings and their fields
+    for k, (ln, ref) in enumerate(starts):
+        if ln.top >= end_y:
+            break
+        board = b.board(ref, page.number)
+        stop = min([h.top for h in headers if h.top > ln.top] + [end_y])
+        if k + 1 < len(starts):
+            stop = min(stop, starts[k + 1][0].top)
+        block = [x for x in lines if ln.top - 0.5 <= x.top < stop]
+        if "board_ref" not in board.cells:
+            board.cells["board_ref"] = Cell("board_ref", _value(ref, "board_ref"), union_box(page.number, ln.words))
+        for spec in layout.board.fields:
+            if spec.field in board.cells:
+                continue
+            for value, ws in _label_matches(spec, block):
+                board.cells[spec.field] = b.cell(spec.field, value, union_box(page.number, ws), ref, None)
+                break
+
+    for k, h in enumerate(headers):
+        before = [ref for ln, ref in starts if ln.top < h.top]
+        if before:
+            board = b.board(before[-1], page.number)
+        elif b.current is not None:
+            board = b.current
+        else:
+            board = b.board("", page.number)
+        bottom = min([end_y] + [x.top for x in headers[k + 1 :]] + [ln.top for ln, _ in starts if ln.top > h.bottom])
+        for i in h.missing:
+            b.problem(
+                f"column header for {cols[i].field} not found on page {page.number}",
+                field=cols[i].field, board=board.ref,
+            )
+        ext = column_extents(cols, h, cands, region[0], region[2])
+        data = [w for w in words if h.bottom < _centre_y(w) < bottom]
+        key_x = (ext[key_col][0] + ext[key_col][1]) / 2
+        ys = grid.row_rules(key_x, h.bottom, bottom) if h.ruled else []
+        if h.ruled and len(ys) >= 2:
+            for y0, y1 in zip(ys, ys[1:], strict=False):
+                band = [w for w in data if y0 < _centre_y(w) < y1]
+                row = _Row(page.number, y0, y1, _words_to_columns(band, ext))
+                b.add_row(row, ext, board)
+            continue
+        rows: list[_Row] = []
+        for ln in group_lines(data, layout.schedule.line_tolerance):
+            assigned = _phrases_to_columns(ln.words, ext)
+            key_text = " ".join(w.text for w in assigned.get(key_col, []))
+            if key_text and sched.row_key_pattern.search(key_text):
+                rows.append(_Row(page.number, ln.top, ln.bottom, assigned))
+            elif rows:
+                row = rows[-1]
+                row.bottom = ln.bottom
+                for i, ws in assigned.items():
+                    row.words.setdefault(i, []).extend(ws)
+        for row in rows:
+            b.add_row(row, ext, board)
+
+
+def _rule_in(r: Rule, region: tuple[float, float, float, float]) -> bool:
+    return r.x1 >= region[0] - SNAP and r.x0 <= region[2] + SNAP and r.bottom >= region[1] - SNAP \
+        and r.top <= region[3] + SNAP

@@ -1,0 +1,467 @@
+"""The pypdfium2 engine (name "pdfium"): PDFium's text page → the shared word splitter.
+
+PDFium reports char positions in the *unrotated* page space with the origin bottom-left; this
+module turns them into our convention (points, top-left of the displayed page, /Rotate
+applied) and gives every char the same box pdfplumber (pdfminer.six) gives it, so that both
+engines feed `build_words` the same chars and get the same words:
+
+* x extent: the char's origin plus its advance (PDFium's "loose" char box along the text
+  direction);
+* y extent: from the font's descent to descent + font size, across the text direction,
+  with pdfminer's descent (the AFM value for the 14 standard fonts, else the font's own).
+
+Ruling lines come from the page's path objects, classified as pdfminer classifies them (a
+single segment is a line, a closed axis-aligned four-sided subpath a rectangle), so rules
+match the pdfplumber engine's too.
+
+Known difference: PDFium rounds glyph widths of embedded fonts to whole thousandths of an em,
+so on fonts with fractional widths a char's x can drift from pdfplumber's by a few hundredths
+of a point along a long run of text. The 14 standard fonts have whole widths: no drift.
+
+Only raw PDFium calls are used per char (ctypes), the text is read in one call per page, and
+everything that is the same for all chars of one text object (matrix, size, font) is read
+once per text object: this keeps the engine close to the speed of bare char extraction.
+"""
+
+from __future__ import annotations
+
+import ctypes
+import math
+from collections.abc import Iterator
+from typing import Any
+
+from extractor.engines.base import PageContent, Rule
+from extractor.engines.plumber import THIN, check_pdf_file
+from extractor.engines.words import Char, build_words, direction_from_matrix
+from extractor.errors import InputError
+
+# Descent (thousandths of an em) pdfminer uses for the 14 standard fonts and their common
+# aliases (from the fonts' AFM files); Symbol and ZapfDingbats have none (0).
+_STANDARD_DESCENT = {
+    "Courier": -194.0,
+    "Helvetica": -207.0,
+    "Arial": -207.0,
+    "Times": -217.0,
+    "TimesNewRoman": -217.0,
+    "CourierNew": -194.0,
+    "Symbol": 0.0,
+    "ZapfDingbats": 0.0,
+}
+
+_UNREADABLE = "\ufffd"
+
+
+def _standard_descent(name: str) -> float | None:
+    """pdfminer's descent for a standard (non-embedded) font name, or None."""
+    base = name.split("+", 1)[-1]
+    for sep in ("-", ","):
+        base = base.split(sep, 1)[0]
+    value = _STANDARD_DESCENT.get(base.replace(" ", ""))
+    return None if value is None else value / 1000.0
+
+
+def _open_error(path: str, exc: Exception, password: str | None) -> InputError:
+    import pypdfium2.raw as raw
+
+    code = getattr(exc, "err_code", None)
+    if code == raw.FPDF_ERR_PASSWORD:
+        if password:
+            return InputError(path, "wrong password")
+        return InputError(path, "encrypted: give the password with --password")
+    if code == raw.FPDF_ERR_SECURITY:
+        return InputError(path, "encrypted with an unsupported security handler")
+    if code == raw.FPDF_ERR_FILE:
+        return InputError(path, "cannot read file")
+    if code == raw.FPDF_ERR_PAGE:
+        return InputError(path, "damaged or truncated PDF: page not found or content error")
+    return InputError(path, "damaged or truncated PDF: cannot parse the file structure")
+
+
+class _PageTransform:
+    """Unrotated PDF user space (y up) → displayed page, top-left origin (y down)."""
+
+    def __init__(self, mediabox: tuple[float, float, float, float], rotation: int) -> None:
+        x0, y0, x1, y1 = mediabox
+        self.x0, self.y0 = x0, y0
+        self.w, self.h = x1 - x0, y1 - y0
+        self.rotation = rotation % 360
+        if self.rotation in (90, 270):
+            self.width, self.height = self.h, self.w
+        else:
+            self.width, self.height = self.w, self.h
+
+    def point(self, x: float, y: float) -> tuple[float, float]:
+        x -= self.x0
+        y -= self.y0
+        r = self.rotation
+        if r == 0:
+            return x, self.h - y
+        if r == 90:
+            return y, x
+        if r == 180:
+            return self.w - x, y
+        return self.h - y, self.w - x
+
+    def box(self, xs: list[float], ys: list[float]) -> tuple[float, float, float, float]:
+        """Axis-aligned box (x0, top, x1, bottom) of user-space points, displayed."""
+        pts = [self.point(x, y) for x, y in zip(xs, ys, strict=True)]
+        dx = [p[0] for p in pts]
+        dy = [p[1] for p in pts]
+        return min(dx), min(dy), max(dx), max(dy)
+
+
+class _ObjInfo:
+    """What all chars of one text object share."""
+
+    __slots__ = ("a", "b", "c", "d", "size", "fontname", "descent", "direction", "font",
+                 "font_handle")
+
+    def __init__(self, a: float, b: float, c: float, d: float, size: float, fontname: str,
+                 descent: float, font: int | None, font_handle: Any) -> None:
+        self.a, self.b, self.c, self.d = a, b, c, d
+        self.size = size
+        self.fontname = fontname
+        self.descent = descent
+        self.font = font  # the font's address: a cache key
+        self.font_handle = font_handle
+        self.direction = tuple(_displayed_direction(a, b, c, d, r) for r in (0, 90, 180, 270))
+
+
+class _Reader:
+    """Per-document reusable ctypes buffers and caches."""
+
+    def __init__(self) -> None:
+        import pypdfium2.raw as raw
+
+        self.raw = raw
+        self.ox = ctypes.c_double()
+        self.oy = ctypes.c_double()
+        self.rect = raw.FS_RECTF()
+        self.matrix = raw.FS_MATRIX()
+        self.fbuf = ctypes.create_string_buffer(256)
+        self.fflags = ctypes.c_int()
+        self.fdesc = ctypes.c_float()
+        self.font_descent: dict[int | None, tuple[str, float]] = {}
+        self.widths: dict[tuple[int | None, str], float] = {}  # (font, char) → advance in em
+        self.fwidth = ctypes.c_float()
+
+    # --- chars -------------------------------------------------------------------------
+
+    def _text(self, tp: Any, n: int) -> str | None:
+        """The page's text, one str char per PDFium char, or None (surrogate pairs present)."""
+        raw = self.raw
+        buf = ctypes.create_string_buffer((n + 1) * 2)
+        got = raw.FPDFText_GetText(tp, 0, n, ctypes.cast(buf, ctypes.POINTER(ctypes.c_ushort)))
+        text = buf.raw[: max(got - 1, 0) * 2].decode("utf-16-le", errors="replace")
+        return text if len(text) == n else None
+
+    def _font(self, tp: Any, i: int, obj: Any) -> tuple[str, float, int | None, Any]:
+        """(name, pdfminer's descent in em, cache key, handle) of the font of char i."""
+        raw = self.raw
+        font = raw.FPDFTextObj_GetFont(obj)
+        key = ctypes.cast(font, ctypes.c_void_p).value
+        hit = self.font_descent.get(key)
+        if hit is not None:
+            return hit[0], hit[1], key, font
+        raw.FPDFText_GetFontInfo(tp, i, self.fbuf, 256, self.fflags)
+        name = self.fbuf.value.decode("utf-8", errors="replace")
+        descent = _standard_descent(name) if not raw.FPDFFont_GetIsEmbedded(font) else None
+        if descent is None:
+            descent = self.fdesc.value if raw.FPDFFont_GetDescent(font, 1.0, self.fdesc) else 0.0
+            if descent > 0:
+                descent = -descent
+        self.font_descent[key] = (name, descent)
+        return name, descent, key, font
+
+    def _width(self, tp: Any, i: int, info: _ObjInfo, ch: str, rect_ref: Any) -> float:
+        """Advance width of a char in em (text space), from the font; else the loose box."""
+        raw = self.raw
+        handle = info.font_handle
+        if len(ch) == 1 and ch != _UNREADABLE and handle is not None and raw.FPDFFont_GetGlyphWidth(
+            handle, ord(ch), 1.0, self.fwidth
+        ):
+            return float(self.fwidth.value)
+        raw.FPDFText_GetLooseCharBox(tp, i, rect_ref)
+        rect = self.rect
+        a, b = info.a, info.b
+        scale = (math.hypot(a, b) or 1.0) * (info.size or 1.0)
+        if abs(a) >= abs(b):
+            span = abs(rect.right - rect.left)
+        else:
+            span = abs(rect.top - rect.bottom)
+        return span / scale
+
+    def chars(self, tp: Any, tf: _PageTransform) -> tuple[list[Char], int]:
+        """(chars, unreadable count) of a text page."""
+        raw = self.raw
+        n = raw.FPDFText_CountChars(tp)
+        if n <= 0:
+            return [], 0
+        text = self._text(tp, n)
+        get_obj = raw.FPDFText_GetTextObject
+        get_origin = raw.FPDFText_GetCharOrigin
+        get_loose = raw.FPDFText_GetLooseCharBox
+        map_error = raw.FPDFText_HasUnicodeMapError
+        ox, oy, rect, m = self.ox, self.oy, self.rect, self.matrix
+        origin_args = (ctypes.byref(ox), ctypes.byref(oy))
+        rect_ref = ctypes.byref(rect)
+        point = tf.point
+        out: list[Char] = []
+        unreadable = 0
+        last_key: int | None = -1
+        info: _ObjInfo | None = None
+        widths = self.widths
+        for i in range(n):
+            obj = get_obj(tp, i)
+            key = ctypes.cast(obj, ctypes.c_void_p).value
+            if key is None:  # a char PDFium generated (line break, implied space)
+                continue
+            ch = text[i] if text is not None else chr(raw.FPDFText_GetUnicode(tp, i))
+            if map_error(tp, i) or ch in ("\ufffe", "\uffff", "\x00"):
+                ch = _UNREADABLE
+            if key != last_key or info is None:
+                raw.FPDFText_GetMatrix(tp, i, m)
+                size = raw.FPDFText_GetFontSize(tp, i)
+                name, descent, fkey, font = self._font(tp, i, obj)
+                info = _ObjInfo(m.a, m.b, m.c, m.d, size, name, descent, fkey, font)
+                last_key = key
+            if ch == _UNREADABLE:
+                unreadable += 1
+            get_origin(tp, i, *origin_args)
+            x, y = ox.value, oy.value
+            a, b, c, d, fs = info.a, info.b, info.c, info.d, info.size
+            # the advance (em fraction) from the font's width table, cached per font and char
+            width = widths.get((info.font, ch))
+            if width is None:
+                width = self._width(tp, i, info, ch, rect_ref)
+                widths[(info.font, ch)] = width
+            ux, uy = a * width * fs, b * width * fs
+            vx, vy = c * fs, d * fs
+            bx, by = x + vx * info.descent, y + vy * info.descent
+            p0 = point(bx, by)
+            p1 = point(bx + ux, by + uy)
+            p2 = point(bx + vx, by + vy)
+            p3 = point(bx + ux + vx, by + uy + vy)
+            x0 = min(p0[0], p1[0], p2[0], p3[0])
+            x1 = max(p0[0], p1[0], p2[0], p3[0])
+            top = min(p0[1], p1[1], p2[1], p3[1])
+            bottom = max(p0[1], p1[1], p2[1], p3[1])
+            direction = info.direction[tf.rotation // 90]
+            out.append(
+                Char(
+                    text=ch,
+                    x0=x0,
+                    top=top,
+                    x1=x1,
+                    bottom=bottom,
+                    size=bottom - top,
+                    fontname=info.fontname,
+                    upright=direction == "ltr",  # as pdfplumber: upright text reads "ltr"
+                    direction=direction,
+                )
+            )
+        return out, unreadable
+
+    # --- rules -------------------------------------------------------------------------
+
+    def rules(self, page: Any, tf: _PageTransform) -> list[Rule]:
+        raw = self.raw
+        rules: list[Rule] = []
+        n = raw.FPDFPage_CountObjects(page)
+        for i in range(n):
+            self._object_rules(raw.FPDFPage_GetObject(page, i), None, tf, rules, 0)
+        return rules
+
+    def _object_rules(self, obj: Any, parent: tuple[float, ...] | None, tf: _PageTransform,
+                      rules: list[Rule], depth: int) -> None:
+        raw = self.raw
+        kind = raw.FPDFPageObj_GetType(obj)
+        if kind not in (raw.FPDF_PAGEOBJ_PATH, raw.FPDF_PAGEOBJ_FORM):
+            return
+        m = self.matrix
+        raw.FPDFPageObj_GetMatrix(obj, m)
+        mat = (m.a, m.b, m.c, m.d, m.e, m.f)
+        if parent is not None:
+            mat = _multiply(mat, parent)
+        if kind == raw.FPDF_PAGEOBJ_FORM:
+            if depth >= 15:
+                return
+            for k in range(raw.FPDFFormObj_CountObjects(obj)):
+                self._object_rules(raw.FPDFFormObj_GetObject(obj, k), mat, tf, rules, depth + 1)
+            return
+        fill = ctypes.c_int()
+        stroke = ctypes.c_int()
+        raw.FPDFPath_GetDrawMode(obj, ctypes.byref(fill), ctypes.byref(stroke))
+        if not fill.value and not stroke.value:
+            return  # a clipping path or an invisible one: not drawn
+        for ops, pts in _subpaths(raw, obj, mat):
+            _classify(ops, pts, bool(stroke.value), tf, rules)
+
+
+def _displayed_direction(a: float, b: float, c: float, d: float, rotation: int) -> str:
+    """Reading direction on the displayed page, decided as the pdfplumber engine decides it.
+
+    (a, b, c, d) is the char matrix in unrotated PDF space; the page is shown turned
+    clockwise by `rotation`. pdfminer calls a char upright when a·d > 0 and b·c <= 0 in
+    displayed space; the pdfplumber engine reads upright chars "ltr" (text turned 180° too).
+    """
+    for _ in range(rotation // 90):  # turn both vectors 90° clockwise (y up)
+        a, b, c, d = b, -a, d, -c
+    if a * d > 0 and b * c <= 0:
+        return "ltr"
+    return direction_from_matrix(a, b, c, d)
+
+
+def _multiply(m: tuple[float, ...], n: tuple[float, ...]) -> tuple[float, ...]:
+    """m then n (PDF row-vector convention)."""
+    a, b, c, d, e, f = m
+    a2, b2, c2, d2, e2, f2 = n
+    return (a * a2 + b * c2, a * b2 + b * d2, c * a2 + d * c2, c * b2 + d * d2,
+            e * a2 + f * c2 + e2, e * b2 + f * d2 + f2)
+
+
+def _subpaths(raw: Any, obj: Any, mat: tuple[float, ...]) -> list[tuple[str, list[tuple[float, float]]]]:
+    """Each subpath of a path object as (pdfminer-style shape string, page-space points)."""
+    a, b, c, d, e, f = mat
+    x = ctypes.c_float()
+    y = ctypes.c_float()
+    out: list[tuple[str, list[tuple[float, float]]]] = []
+    ops: list[str] = []
+    pts: list[tuple[float, float]] = []
+    for k in range(raw.FPDFPath_CountSegments(obj)):
+        seg = raw.FPDFPath_GetPathSegment(obj, k)
+        kind = raw.FPDFPathSegment_GetType(seg)
+        raw.FPDFPathSegment_GetPoint(seg, ctypes.byref(x), ctypes.byref(y))
+        px, py = x.value, y.value
+        pt = (a * px + c * py + e, b * px + d * py + f)
+        if kind == raw.FPDF_SEGMENT_MOVETO:
+            if ops:
+                out.append(("".join(ops), pts))
+            ops, pts = ["m"], [pt]
+            continue
+        if not ops:
+            ops, pts = ["m"], [pt]
+            continue
+        ops.append("c" if kind == raw.FPDF_SEGMENT_BEZIERTO else "l")
+        pts.append(pt)
+        if raw.FPDFPathSegment_GetClose(seg):
+            ops.append("h")
+    if ops:
+        out.append(("".join(ops), pts))
+    return out
+
+
+def _classify(ops: str, pts: list[tuple[float, float]], stroke: bool, tf: _PageTransform,
+              rules: list[Rule]) -> None:
+    """Turn one subpath into rules as the pdfplumber engine does with pdfminer's objects."""
+    if "c" in ops:
+        return  # a curve: pdfplumber's engine draws no rules from curves either
+    base = ops.replace("h", "")
+    if base == "ml":
+        (xa, ya), (xb, yb) = pts[0], pts[1]
+        x0, top, x1, bottom = tf.box([xa, xb], [ya, yb])
+        rules.append(Rule(x0, top, x1, bottom))
+        return
+    if base == "mlll" and "h" in ops:
+        pts = [*pts, pts[0]]
+    elif not (base == "mllll" and pts[0] == pts[4]):
+        return
+    (x0, y0), (x1, y1), (x2, y2), (x3, y3), _ = pts
+    square = (x0 == x1 and y1 == y2 and x2 == x3 and y3 == y0) or (
+        y0 == y1 and x1 == x2 and y2 == y3 and x3 == x0
+    )
+    if not square:
+        return
+    bx0, btop, bx1, bbottom = tf.box([x0, x2], [y0, y2])
+    w, h = bx1 - bx0, bbottom - btop
+    if h <= THIN and w > h:
+        mid = (btop + bbottom) / 2
+        rules.append(Rule(bx0, mid, bx1, mid))
+    elif w <= THIN and h > w:
+        mid = (bx0 + bx1) / 2
+        rules.append(Rule(mid, btop, mid, bbottom))
+    elif stroke:
+        rules.extend(
+            [
+                Rule(bx0, btop, bx1, btop),
+                Rule(bx0, bbottom, bx1, bbottom),
+                Rule(bx0, btop, bx0, bbottom),
+                Rule(bx1, btop, bx1, bbottom),
+            ]
+        )
+
+
+class PdfiumDocument:
+    def __init__(self, path: str, pdf: Any) -> None:
+        self.path = path
+        self._pdf = pdf
+        self.page_count = len(pdf)
+        self._reader = _Reader()
+
+    def page_content(self, index: int) -> PageContent:
+        """One page (0-based index) as PageContent; the page is closed before returning."""
+        raw = self._reader.raw
+        page = self._pdf[index]
+        try:
+            rotation = int(page.get_rotation() or 0) % 360
+            tf = _PageTransform(tuple(page.get_bbox()), rotation)  # type: ignore[arg-type]
+            tp = raw.FPDFText_LoadPage(page.raw)
+            if not tp:
+                raise InputError(self.path, f"damaged PDF: page {index + 1}: text cannot be read")
+            try:
+                chars, unreadable = self._reader.chars(tp, tf)
+            finally:
+                raw.FPDFText_ClosePage(tp)
+            rules = self._reader.rules(page.raw, tf)
+        finally:
+            page.close()
+        return PageContent(
+            number=index + 1,
+            width=tf.width,
+            height=tf.height,
+            rotation=rotation,
+            words=build_words(chars),
+            rules=rules,
+            char_count=len(chars),
+            unreadable_chars=unreadable,
+        )
+
+    def pages(self) -> Iterator[PageContent]:
+        for index in range(self.page_count):
+            try:
+                content = self.page_content(index)
+            except InputError:
+                raise
+            except Exception as exc:  # noqa: BLE001 - any PDFium failure is a damaged page
+                detail = " ".join(str(exc).split())[:200] or type(exc).__name__
+                raise InputError(
+                    self.path, f"damaged or truncated PDF: page {index + 1}: {detail}"
+                ) from None
+            yield content
+
+    def close(self) -> None:
+        self._pdf.close()
+
+
+class PdfiumEngine:
+    name = "pdfium"
+
+    def open(self, path: str, password: str | None = None) -> PdfiumDocument:
+        check_pdf_file(path)
+        import pypdfium2 as pdfium
+
+        try:
+            pdf = pdfium.PdfDocument(path, password=password or None)
+        except pdfium.PdfiumError as exc:
+            raise _open_error(path, exc, password) from None
+        except OSError as exc:
+            raise InputError(path, f"cannot read file: {exc.strerror or exc}") from None
+        try:
+            count = len(pdf)
+        except Exception:  # noqa: BLE001
+            pdf.close()
+            raise InputError(path, "damaged or truncated PDF: cannot count pages") from None
+        if count < 1:
+            pdf.close()
+            raise InputError(path, "damaged or truncated PDF: no pages")
+        return PdfiumDocument(path, pdf)

@@ -1,0 +1,149 @@
+"""The pdfplumber engine (layout `engine = "words"`): chars → shared word splitter, lines → rules.
+
+pdfplumber (through pdfminer.six) already reports coordinates with the page's /Rotate applied
+and the origin at the top-left, which is our convention. pdfplumber is imported lazily so that
+`import extractor` stays cheap.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from typing import Any
+
+from extractor.engines.base import PageContent, Rule
+from extractor.engines.words import Char, build_words, direction_from_matrix, is_unreadable
+from extractor.errors import InputError
+
+THIN = 2.0  # a filled rectangle thinner than this (points) is a ruling line
+
+
+def check_pdf_file(path: str) -> None:
+    """Cheap checks before any PDF library sees the file: exists, not empty, has a %PDF header."""
+    try:
+        with open(path, "rb") as fh:
+            head = fh.read(1024)
+    except FileNotFoundError:
+        raise InputError(path, "file not found") from None
+    except IsADirectoryError:
+        raise InputError(path, "is a folder, not a PDF file") from None
+    except OSError as exc:
+        raise InputError(path, f"cannot read file: {exc.strerror or exc}") from None
+    if not head:
+        raise InputError(path, "empty file (0 bytes)")
+    if b"%PDF" not in head:
+        raise InputError(path, "not a PDF (no %PDF header)")
+
+
+def _one_line(exc: BaseException) -> str:
+    inner = exc.args[0] if exc.args and isinstance(exc.args[0], BaseException) else exc
+    text = " ".join(str(inner).split()) or type(inner).__name__
+    return text[:200]
+
+
+def _is_password_error(exc: BaseException) -> bool:
+    inner = exc.args[0] if exc.args and isinstance(exc.args[0], BaseException) else exc
+    return type(inner).__name__ in ("PDFPasswordIncorrect", "PDFEncryptionError")
+
+
+def _rules(page: Any) -> list[Rule]:
+    rules: list[Rule] = []
+    for ln in page.lines:
+        rules.append(Rule(float(ln["x0"]), float(ln["top"]), float(ln["x1"]), float(ln["bottom"])))
+    for r in page.rects:
+        x0, top, x1, bottom = (float(r[k]) for k in ("x0", "top", "x1", "bottom"))
+        w, h = x1 - x0, bottom - top
+        if h <= THIN and w > h:
+            mid = (top + bottom) / 2
+            rules.append(Rule(x0, mid, x1, mid))
+        elif w <= THIN and h > w:
+            mid = (x0 + x1) / 2
+            rules.append(Rule(mid, top, mid, bottom))
+        elif r.get("stroke"):
+            rules.extend(
+                [
+                    Rule(x0, top, x1, top),
+                    Rule(x0, bottom, x1, bottom),
+                    Rule(x0, top, x0, bottom),
+                    Rule(x1, top, x1, bottom),
+                ]
+            )
+    return rules
+
+
+def _chars(page: Any) -> list[Char]:
+    out: list[Char] = []
+    for c in page.chars:
+        m = c.get("matrix") or (1, 0, 0, 1, 0, 0)
+        direction = "ltr" if c.get("upright", True) else direction_from_matrix(*m[:4])
+        out.append(
+            Char(
+                text=c["text"],
+                x0=float(c["x0"]),
+                top=float(c["top"]),
+                x1=float(c["x1"]),
+                bottom=float(c["bottom"]),
+                size=float(c.get("size") or 0.0),
+                fontname=str(c.get("fontname") or ""),
+                upright=bool(c.get("upright", True)),
+                direction=direction,
+            )
+        )
+    return out
+
+
+def page_content(page: Any) -> PageContent:
+    chars = _chars(page)
+    return PageContent(
+        number=int(page.page_number),
+        width=float(page.width),
+        height=float(page.height),
+        rotation=int(getattr(page, "rotation", 0) or 0),
+        words=build_words(chars),
+        rules=_rules(page),
+        char_count=len(chars),
+        unreadable_chars=sum(1 for c in chars if is_unreadable(c.text)),
+    )
+
+
+class PlumberDocument:
+    def __init__(self, path: str, pdf: Any) -> None:
+        self.path = path
+        self._pdf = pdf
+        try:
+            self.page_count = len(pdf.pages)
+        except Exception as exc:  # noqa: BLE001 - any pdfminer failure is a damaged file
+            self.close()
+            raise InputError(path, f"damaged or truncated PDF: {_one_line(exc)}") from None
+
+    def pages(self) -> Iterator[PageContent]:
+        for page in self._pdf.pages:
+            try:
+                content = page_content(page)
+            except Exception as exc:  # noqa: BLE001
+                raise InputError(
+                    self.path, f"damaged or truncated PDF: page {page.page_number}: {_one_line(exc)}"
+                ) from None
+            finally:
+                page.close()
+            yield content
+
+    def close(self) -> None:
+        self._pdf.close()
+
+
+class PlumberEngine:
+    name = "plumber"
+
+    def open(self, path: str, password: str | None = None) -> PlumberDocument:
+        check_pdf_file(path)
+        import pdfplumber
+
+        try:
+            pdf = pdfplumber.open(path, password=password or "")
+        except Exception as exc:  # noqa: BLE001 - pdfminer raises many types; all become one line
+            if _is_password_error(exc):
+                if password:
+                    raise InputError(path, "wrong password") from None
+                raise InputError(path, "encrypted: give the password with --password") from None
+            raise InputError(path, f"damaged or truncated PDF: {_one_line(exc)}") from None
+        return PlumberDocument(path, pdf)

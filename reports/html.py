@@ -1,0 +1,70 @@
+"""The per-certificate HTML report: one self-contained file (inline CSS, no scripts, no
+external resources). The view-model (``reports.model``) decides everything; the template in
+``reports/templates/certificate.html.j2`` only lays it out, with autoescaping on.
+"""
+
+from __future__ import annotations
+
+from datetime import UTC, datetime
+from pathlib import Path
+
+from jinja2 import Environment, FileSystemLoader, StrictUndefined
+
+from checks.profile import Profile
+from checks.runner import CheckResults
+from extractor.records import Certificate
+from reports.model import ReportView, build_report
+
+TEMPLATES = Path(__file__).parent / "templates"
+
+
+def _environment() -> Environment:
+    return Environment(
+        loader=FileSystemLoader(TEMPLATES),
+        autoescape=True,  # every value comes from an untrusted PDF
+        undefined=StrictUndefined,
+        trim_blocks=True,
+        lstrip_blocks=True,
+        keep_trailing_newline=True,
+    )
+
+
+def render_view(view: ReportView) -> str:
+    return _environment().get_template("certificate.html.j2").render(r=view)
+
+
+def render_html(
+    cert: Certificate,
+    results: CheckResults,
+    *,
+    certvet_version: str,
+    profile: Profile | None = None,
+    generated_at: str | None = None,
+) -> str:
+    if generated_at is None:
+        generated_at = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
+    view = build_report(
+        cert, results, certvet_version=certvet_version, profile=profile,
+        generated_at=generated_at,
+    )
+    return render_view(view)
+
+
+def write_html(
+    cert: Certificate,
+    results: CheckResults,
+    path: str | Path,
+    *,
+    certvet_version: str,
+    profile: Profile | None = None,
+    generated_at: str | None = None,
+) -> Path:
+    """Write the report for one certificate to ``path`` (UTF-8) and return the path."""
+    out = Path(path)
+    out.parent.mkdir(parents=True, exist_ok=True)
+    out.write_text(
+        render_html(cert, results, certvet_version=certvet_version, profile=profile,
+                    generated_at=generated_at),
+        encoding="utf-8",
+    )
+    return out

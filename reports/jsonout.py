@@ -1,0 +1,194 @@
+"""The per-certificate JSON report.
+
+The document is one object whose first key is ``format_version``. Readers must check it.
+
+Format history:
+
+* 1 — first version: ``format_version``, ``certvet_version``, ``generated_at``, ``verdict``,
+  ``counts`` (non-preview findings by severity slug), ``certificate`` (source, sha256, layout,
+  engine, page_count, name, ``cells``), ``boards`` (each with ``cells`` and ``circuits``, each
+  circuit with ``cells``), ``problems``, ``findings`` (``Finding.to_dict``), ``check_runs``,
+  ``profile`` (name, description, path, per-check overrides). A cell is ``Value.to_dict()``
+  (kind, raw and, when set, number, unit, text, problem) plus ``box`` (or null).
+
+``certificate_from_json`` rebuilds the ``Certificate`` from a document, so checks can be
+re-run on a saved report without the PDF.
+"""
+
+from __future__ import annotations
+
+import json
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import Any
+
+from checks.model import Severity
+from checks.profile import Profile
+from checks.runner import CheckResults
+from extractor.records import (
+    Board,
+    Box,
+    Cell,
+    Certificate,
+    Circuit,
+    ExtractionProblem,
+    Value,
+    ValueKind,
+)
+from reports.verdict import decide
+
+FORMAT_VERSION = 1
+
+
+def _box(box: Box | None) -> dict[str, Any] | None:
+    return box.to_dict() if box is not None else None
+
+
+def _cells(cells: dict[str, Cell]) -> dict[str, dict[str, Any]]:
+    return {name: dict(cell.value.to_dict(), box=_box(cell.box)) for name, cell in cells.items()}
+
+
+def report_dict(
+    cert: Certificate,
+    results: CheckResults,
+    *,
+    certvet_version: str,
+    profile: Profile | None = None,
+    generated_at: str | None = None,
+) -> dict[str, Any]:
+    profile = profile or results.profile
+    if generated_at is None:
+        generated_at = datetime.now(UTC).isoformat(timespec="seconds")
+    return {
+        "format_version": FORMAT_VERSION,
+        "certvet_version": certvet_version,
+        "generated_at": generated_at,
+        "verdict": decide(cert, results).to_dict(),
+        "counts": {s.slug: results.count(s) for s in sorted(Severity, reverse=True)},
+        "certificate": {
+            "name": cert.name,
+            "source": cert.source,
+            "sha256": cert.sha256,
+            "layout": cert.layout,
+            "engine": cert.engine,
+            "page_count": cert.page_count,
+            "cells": _cells(cert.cells),
+        },
+        "boards": [
+            {
+                "ref": b.ref,
+                "page": b.page,
+                "cells": _cells(b.cells),
+                "circuits": [
+                    {"ref": c.ref, "page": c.page, "cells": _cells(c.cells)} for c in b.circuits
+                ],
+            }
+            for b in cert.boards
+        ],
+        "problems": [
+            {
+                "message": p.message,
+                "field": p.field,
+                "board": p.board,
+                "circuit": p.circuit,
+                "raw": p.raw,
+                "box": _box(p.box),
+            }
+            for p in cert.problems
+        ],
+        "findings": [f.to_dict() for f in results.findings],
+        "check_runs": [
+            {
+                "check_id": r.check_id,
+                "title": r.title,
+                "outcome": r.outcome.value,
+                "applied_to": r.applied_to,
+                "findings": r.findings,
+                "options": r.options,
+            }
+            for r in results.runs
+        ],
+        "profile": {
+            "name": profile.name,
+            "description": profile.description,
+            "path": profile.path,
+            "checks": {
+                cid: {
+                    "enabled": s.enabled,
+                    "severity": s.severity.slug if s.severity is not None else None,
+                    "options": s.options,
+                }
+                for cid, s in profile.checks.items()
+            },
+        },
+    }
+
+
+def write_json(
+    cert: Certificate,
+    results: CheckResults,
+    path: str | Path,
+    *,
+    certvet_version: str,
+    profile: Profile | None = None,
+    generated_at: str | None = None,
+) -> Path:
+    """Write the JSON report for one certificate (UTF-8, indented) and return the path."""
+    out = Path(path)
+    out.parent.mkdir(parents=True, exist_ok=True)
+    data = report_dict(cert, results, certvet_version=certvet_version, profile=profile,
+                       generated_at=generated_at)
+    out.write_text(json.dumps(data, ensure_ascii=False, indent=2) + "\n", encoding="utf-8")
+    return out
+
+
+# --- reading back -------------------------------------------------------------------------
+
+
+def _box_from(d: dict[str, Any] | None) -> Box | None:
+    if d is None:
+        return None
+    return Box(int(d["page"]), float(d["x0"]), float(d["top"]), float(d["x1"]),
+               float(d["bottom"]))
+
+
+def _cells_from(d: dict[str, dict[str, Any]]) -> dict[str, Cell]:
+    cells: dict[str, Cell] = {}
+    for name, c in d.items():
+        value = Value(
+            kind=ValueKind(c["kind"]),
+            raw=c["raw"],
+            number=c.get("number"),
+            unit=c.get("unit"),
+            text=c.get("text"),
+            problem=c.get("problem"),
+        )
+        cells[name] = Cell(name, value, _box_from(c.get("box")))
+    return cells
+
+
+def certificate_from_json(data: dict[str, Any]) -> Certificate:
+    """Rebuild the Certificate recorded in a report document (boxes rounded to 0.01 pt)."""
+    version = data.get("format_version")
+    if version != FORMAT_VERSION:
+        raise ValueError(f"unsupported report format_version {version!r} "
+                         f"(this certvet reads {FORMAT_VERSION})")
+    c = data["certificate"]
+    cert = Certificate(
+        source=c["source"], sha256=c["sha256"], layout=c["layout"], engine=c["engine"],
+        page_count=c["page_count"], cells=_cells_from(c["cells"]),
+    )
+    for b in data["boards"]:
+        board = Board(ref=b["ref"], cells=_cells_from(b["cells"]), page=b["page"])
+        for ci in b["circuits"]:
+            board.circuits.append(
+                Circuit(board=board.ref, ref=ci["ref"], cells=_cells_from(ci["cells"]),
+                        page=ci["page"])
+            )
+        cert.boards.append(board)
+    for p in data["problems"]:
+        cert.problems.append(ExtractionProblem(
+            message=p["message"], field=p["field"], board=p["board"], circuit=p["circuit"],
+            raw=p["raw"], box=_box_from(p["box"]),
+        ))
+    return cert
