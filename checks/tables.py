@@ -182,13 +182,6 @@ def rcd_max_ra(idn_ma: float) -> float | None:
     return None
 
 
-__all__ = [
-    "CURRENT", "PRE_2015", "SIXTEENTH", "EDITION_NAMES", "MaxZs", "Table", "TableRow",
-    "conductor_mohm_per_m", "declared_ze", "factor", "load", "max_disconnection_time", "max_zs",
-    "normalise_earthing", "rcd_max_ra",
-]
-
-
 # --- cables and protective conductors (added for checks.catalogue.devices_cables) ------------
 
 

@@ -18,6 +18,7 @@ if TYPE_CHECKING:
     from extractor.records import Certificate
 
 ENGINE_NAMES = ("words", "plumber", "pdfium", "lattice")
+UNREADABLE_SHARE = 0.5  # refuse a document when more than this share of its chars is unreadable
 
 
 def get_engine(name: str, path: str = "<engine>") -> Engine:
@@ -30,10 +31,14 @@ def get_engine(name: str, path: str = "<engine>") -> Engine:
         try:
             from extractor.engines import pdfium
         except ImportError as exc:
-            raise InputError(path, f"engine 'pdfium' is not available ({exc}); use engine 'words'") from None
+            raise InputError(
+                path, f"engine 'pdfium' is not available ({exc}); use engine 'words'"
+            ) from None
         return pdfium.PdfiumEngine()  # type: ignore[no-any-return]
     if name == "lattice":
-        raise InputError(path, "engine 'lattice' is not implemented yet; use engine 'words' or 'pdfium'")
+        from extractor.engines.lattice import LatticeEngine
+
+        return LatticeEngine()
     raise InputError(path, f"unknown engine {name!r} (choose from {', '.join(ENGINE_NAMES)})")
 
 
@@ -44,19 +49,28 @@ def open_document(path: str, engine: str = "words", password: str | None = None)
 def _pages_checked(path: str, doc: OpenDocument, limit: int | None = None) -> Iterator[PageContent]:
     """Pages of an open document; raises InputError when no page has any text at all."""
     chars = 0
+    unreadable = 0
     seen = 0
     for page in doc.pages():
         chars += page.char_count
+        unreadable += page.unreadable_chars
         seen += 1
         yield page
         if limit is not None and seen >= limit:
             break
     if seen and chars == 0:
         raise InputError(path, "no text layer (image-only pages); OCR is out of scope")
+    if chars and unreadable > UNREADABLE_SHARE * chars:
+        raise InputError(
+            path,
+            f"text unreadable: {unreadable} of {chars} characters have no Unicode mapping "
+            "(fonts without /ToUnicode); OCR is out of scope",
+        )
 
 
-def page_text(path: str, *, pages: int | None = None, engine: str = "words",
-              password: str | None = None) -> list[str]:
+def page_text(
+    path: str, *, pages: int | None = None, engine: str = "words", password: str | None = None
+) -> list[str]:
     """Plain text of each page (lines of horizontal words top to bottom), first `pages` pages."""
     doc = open_document(path, engine, password)
     try:
@@ -68,7 +82,9 @@ def page_text(path: str, *, pages: int | None = None, engine: str = "words",
         doc.close()
 
 
-def recognise(path: str, layouts: Sequence[Layout], *, password: str | None = None) -> Layout | None:
+def recognise(
+    path: str, layouts: Sequence[Layout], *, password: str | None = None
+) -> Layout | None:
     """The first layout whose `recognise.require` patterns all match its first pages' text."""
     if not layouts:
         return None
@@ -92,8 +108,9 @@ def file_sha256(path: str) -> str:
     return h.hexdigest()
 
 
-def extract(path: str, layout: Layout, *, engine: str | None = None,
-            password: str | None = None) -> Certificate:
+def extract(
+    path: str, layout: Layout, *, engine: str | None = None, password: str | None = None
+) -> Certificate:
     """Read a certificate PDF with a layout; InputError (one line) when it cannot be read."""
     path = str(path)
     name = engine or layout.engine
@@ -117,5 +134,7 @@ def extract(path: str, layout: Layout, *, engine: str | None = None,
             path, f"layout {layout.name!r} found no schedule (looked for column headers {heads})"
         )
     if not any(bd.circuits for bd in cert.boards):
-        raise NoLayoutMatches(path, f"layout {layout.name!r} found the schedule but no circuit rows")
+        raise NoLayoutMatches(
+            path, f"layout {layout.name!r} found the schedule but no circuit rows"
+        )
     return cert

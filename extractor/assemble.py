@@ -18,7 +18,6 @@ Per schedule page:
 
 from __future__ import annotations
 
-import re
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 
@@ -54,7 +53,9 @@ class Line:
     spans: list[tuple[int, int]]  # character span of each word in `text`
 
     def words_in_span(self, start: int, end: int) -> list[Word]:
-        return [w for w, (a, b) in zip(self.words, self.spans, strict=True) if a < end and b > start]
+        return [
+            w for w, (a, b) in zip(self.words, self.spans, strict=True) if a < end and b > start
+        ]
 
 
 def _centre_y(w: Word) -> float:
@@ -131,7 +132,9 @@ def union_box(page: int, words: Sequence[Word]) -> Box:
 # --- ruling lines and grid cells ------------------------------------------------------------
 
 
-def _merge_segments(segs: list[tuple[float, float, float]]) -> dict[float, list[tuple[float, float]]]:
+def _merge_segments(
+    segs: list[tuple[float, float, float]],
+) -> dict[float, list[tuple[float, float]]]:
     """(position, start, end) segments → position → merged [start, end] intervals."""
     out: dict[float, list[tuple[float, float]]] = {}
     keys: list[float] = []
@@ -197,9 +200,21 @@ class Grid:
                         break
         return out
 
+    def closed(self, xs: tuple[float, float], top: float, bottom: float) -> bool:
+        """Do the vertical rules at the edges xs (where there are any) run from top to bottom?"""
+        for x in xs:
+            key = next((k for k in self.vs if abs(k - x) <= SNAP), None)
+            if key is not None and not _covers(self.vs[key], top, bottom):
+                return False
+        return True
+
     def row_rules(self, x: float, top: float, bottom: float) -> list[float]:
         """y of horizontal rules crossing x between top and bottom (inclusive, snapped)."""
-        return [y for y in sorted(self.hs) if top - SNAP <= y <= bottom + SNAP and _covers(self.hs[y], x, x)]
+        return [
+            y
+            for y in sorted(self.hs)
+            if top - SNAP <= y <= bottom + SNAP and _covers(self.hs[y], x, x)
+        ]
 
 
 # --- header candidates ----------------------------------------------------------------------
@@ -220,11 +235,17 @@ class Cand:
         return (self.x0 + self.x1) / 2
 
 
-def _cand(words: Sequence[Word], ruled: bool, box: tuple[float, float, float, float] | None = None,
-          tolerance: float = 3.0) -> Cand:
+def _cand(
+    words: Sequence[Word],
+    ruled: bool,
+    box: tuple[float, float, float, float] | None = None,
+    tolerance: float = 3.0,
+) -> Cand:
     b = box or (
-        min(w.x0 for w in words), min(w.top for w in words),
-        max(w.x1 for w in words), max(w.bottom for w in words),
+        min(w.x0 for w in words),
+        min(w.top for w in words),
+        max(w.x1 for w in words),
+        max(w.bottom for w in words),
     )
     return Cand(text_of(words, tolerance), *b, len(words), ruled)
 
@@ -234,8 +255,9 @@ def _inside(w: Word, box: tuple[float, float, float, float]) -> bool:
     return box[0] <= cx <= box[2] and box[1] <= cy <= box[3]
 
 
-def grid_candidates(words: Sequence[Word], cells: Sequence[tuple[float, float, float, float]],
-                    tolerance: float) -> list[Cand]:
+def grid_candidates(
+    words: Sequence[Word], cells: Sequence[tuple[float, float, float, float]], tolerance: float
+) -> list[Cand]:
     out = []
     for box in cells:
         inside = [w for w in words if _inside(w, box)]
@@ -245,37 +267,36 @@ def grid_candidates(words: Sequence[Word], cells: Sequence[tuple[float, float, f
 
 
 def text_candidates(lines: Sequence[Line], words: Sequence[Word]) -> list[Cand]:
-    """Phrases on a line, stacks of up to three phrases in one x-band, vertical word clusters."""
-    phrases: list[list[list[Word]]] = []  # per line: phrases (lists of words)
+    """Runs of up to four words of a phrase, pairs of such runs stacked in one x-band on
+    consecutive lines ("R1+R2" over "(Ω)"), and clusters of vertical words."""
+    runs: list[list[tuple[Cand, list[Word]]]] = []  # per line
     out: list[Cand] = []
     for ln in lines:
-        row: list[list[Word]] = []
+        phrases: list[list[Word]] = []
         for w in ln.words:
-            if row and w.x0 - row[-1][-1].x1 <= max(w.size, 4.0):
-                row[-1].append(w)
+            if phrases and w.x0 - phrases[-1][-1].x1 <= max(w.size, 4.0):
+                phrases[-1].append(w)
             else:
-                row.append([w])
-        phrases.append(row)
-        for p in row:
-            out.append(_cand(p, False))
-            if len(p) > 1:
-                out.extend(_cand([w], False) for w in p)
+                phrases.append([w])
+        row = []
+        for p in phrases:
+            for i in range(len(p)):
+                for j in range(i + 1, min(i + 4, len(p)) + 1):
+                    row.append((_cand(p[i:j], False), p[i:j]))
+        runs.append(row)
+        out.extend(c for c, _ in row)
 
     def mutual(a: Cand, b: Cand) -> bool:
         return a.x0 <= b.cx <= a.x1 and b.x0 <= a.cx <= b.x1
 
-    for i, row in enumerate(phrases):
-        for p in row:
-            stack = [p]
-            last = _cand(p, False)
-            for k in range(i + 1, min(i + 3, len(phrases))):
-                gap_ok = lines[k].top - lines[k - 1].bottom <= max(w.size for w in p)
-                nxt = [q for q in phrases[k] if mutual(last, _cand(q, False))]
-                if not gap_ok or len(nxt) != 1:
-                    break
-                stack.append(nxt[0])
-                last = _cand(nxt[0], False)
-                out.append(_cand([w for s in stack for w in s], False))
+    for i in range(len(runs) - 1):
+        size = max((w.size for w in lines[i].words), default=8.0)
+        if lines[i + 1].top - lines[i].bottom > size:
+            continue
+        for upper, uw in runs[i]:
+            for lower, lw in runs[i + 1]:
+                if mutual(upper, lower):
+                    out.append(_cand(uw + lw, False))
 
     verts = [w for w in words if w.vertical]
     clusters: list[list[Word]] = []
@@ -283,8 +304,10 @@ def text_candidates(lines: Sequence[Line], words: Sequence[Word]) -> list[Cand]:
         joined = None
         for c in clusters:
             if any(
-                w.x0 - o.x1 <= 0.6 * max(w.size, 1.0) and o.x0 - w.x1 <= 0.6 * max(w.size, 1.0)
-                and w.top - o.bottom <= w.size and o.top - w.bottom <= w.size
+                w.x0 - o.x1 <= 0.6 * max(w.size, 1.0)
+                and o.x0 - w.x1 <= 0.6 * max(w.size, 1.0)
+                and w.top - o.bottom <= w.size
+                and o.top - w.bottom <= w.size
                 for o in c
             ):
                 joined = c
@@ -314,8 +337,9 @@ def _pref(c: Cand) -> tuple[float, ...]:
     return (c.nwords, c.x1 - c.x0 if c.ruled else 0.0, c.top, c.x0)
 
 
-def find_headers(columns: Sequence[ColumnSpec], cands: Sequence[Cand], anchor: int,
-                 slack: float) -> list[Header]:
+def find_headers(
+    columns: Sequence[ColumnSpec], cands: Sequence[Cand], anchor: int, slack: float
+) -> list[Header]:
     hdr_cols = [i for i, c in enumerate(columns) if c.header is not None]
     matches = {
         i: sorted((c for c in cands if columns[i].header.search(c.text)), key=_pref)  # type: ignore[union-attr]
@@ -338,11 +362,12 @@ def find_headers(columns: Sequence[ColumnSpec], cands: Sequence[Cand], anchor: i
         while pending:
             # columns with fewest unclaimed options choose first (a specific pattern
             # keeps its only cell from a looser pattern)
-            def free(i: int) -> list[Cand]:
-                return [c for c in pending[i] if c not in claimed and not _overlaps_any(c, claimed)]
-
-            i = min(pending, key=lambda k: (len(free(k)) if free(k) else 1_000_000, k))
-            opts = free(i)
+            free = {
+                k: [c for c in opts if c not in claimed and not _overlaps_any(c, claimed)]
+                for k, opts in pending.items()
+            }
+            i = min(pending, key=lambda k: (len(free[k]) or 1_000_000, k))
+            opts = free[i]
             del pending[i]
             if opts:
                 chosen[i] = opts[0]
@@ -351,7 +376,9 @@ def find_headers(columns: Sequence[ColumnSpec], cands: Sequence[Cand], anchor: i
             continue
         top = min(c.top for c in chosen.values())
         bottom = max(c.bottom for c in chosen.values())
-        headers.append(Header(top, bottom, a.ruled, chosen, [i for i in hdr_cols if i not in chosen]))
+        headers.append(
+            Header(top, bottom, a.ruled, chosen, [i for i in hdr_cols if i not in chosen])
+        )
     return headers
 
 
@@ -368,8 +395,9 @@ def _overlaps_any(c: Cand, others: Iterable[Cand]) -> bool:
 # --- columns --------------------------------------------------------------------------------
 
 
-def column_extents(columns: Sequence[ColumnSpec], header: Header, cands: Sequence[Cand],
-                   left: float, right: float) -> dict[int, tuple[float, float]]:
+def column_extents(
+    columns: Sequence[ColumnSpec], header: Header, cands: Sequence[Cand], left: float, right: float
+) -> dict[int, tuple[float, float]]:
     ext: dict[int, tuple[float, float]] = {}
     if header.ruled:
         for i, c in header.found.items():
@@ -390,12 +418,12 @@ def column_extents(columns: Sequence[ColumnSpec], header: Header, cands: Sequenc
                 continue
             anchors.append((c, None))
         anchors.sort(key=lambda t: (t[0].cx, t[0].x0))
-        for k, (c, i) in enumerate(anchors):
-            if i is None:
+        for k, (c, ci) in enumerate(anchors):
+            if ci is None:
                 continue
             lo = left if k == 0 else _boundary(anchors[k - 1][0], c)
             hi = right if k == len(anchors) - 1 else _boundary(c, anchors[k + 1][0])
-            ext[i] = (lo, hi)
+            ext[ci] = (lo, hi)
     for i, col in enumerate(columns):
         if col.x is not None:
             ext[i] = col.x
@@ -422,7 +450,9 @@ class _Row:
     words: dict[int, list[Word]] = field(default_factory=dict)
 
 
-def _words_to_columns(words: Iterable[Word], ext: dict[int, tuple[float, float]]) -> dict[int, list[Word]]:
+def _words_to_columns(
+    words: Iterable[Word], ext: dict[int, tuple[float, float]]
+) -> dict[int, list[Word]]:
     out: dict[int, list[Word]] = {}
     fixed_first = sorted(ext.items(), key=lambda kv: (kv[1][1] - kv[1][0], kv[0]))
     for w in words:
@@ -434,7 +464,9 @@ def _words_to_columns(words: Iterable[Word], ext: dict[int, tuple[float, float]]
     return out
 
 
-def _phrases_to_columns(words: Sequence[Word], ext: dict[int, tuple[float, float]]) -> dict[int, list[Word]]:
+def _phrases_to_columns(
+    words: Sequence[Word], ext: dict[int, tuple[float, float]]
+) -> dict[int, list[Word]]:
     """Unruled rows: words closer than half an em form a phrase, and a phrase goes whole to the
     column it overlaps most (a description wider than its label stays in its column)."""
     phrases: list[list[Word]] = []
@@ -449,7 +481,11 @@ def _phrases_to_columns(words: Sequence[Word], ext: dict[int, tuple[float, float
         cx = (x0 + x1) / 2
         best = max(
             ext.items(),
-            key=lambda kv: (min(x1, kv[1][1]) - max(x0, kv[1][0]), kv[1][0] <= cx <= kv[1][1], -kv[0]),
+            key=lambda kv: (
+                min(x1, kv[1][1]) - max(x0, kv[1][0]),
+                kv[1][0] <= cx <= kv[1][1],
+                -kv[0],
+            ),
         )
         if min(x1, best[1][1]) - max(x0, best[1][0]) > 0:
             out.setdefault(best[0], []).extend(p)
@@ -494,12 +530,18 @@ class _Builder:
     def problem(self, message: str, **kw: object) -> None:
         self.cert.problems.append(ExtractionProblem(message, **kw))  # type: ignore[arg-type]
 
-    def cell(self, field_name: str, text: str, box: Box, board: str | None, circuit: str | None) -> Cell:
+    def cell(
+        self, field_name: str, text: str, box: Box, board: str | None, circuit: str | None
+    ) -> Cell:
         v = _value(text, field_name)
         if v.kind is ValueKind.UNREADABLE:
             self.problem(
                 f"cannot read {field_name}: {v.problem}",
-                field=field_name, board=board, circuit=circuit, raw=text, box=box,
+                field=field_name,
+                board=board,
+                circuit=circuit,
+                raw=text,
+                box=box,
             )
         return Cell(field_name, v, box)
 
@@ -514,7 +556,9 @@ class _Builder:
             ws = [w for ws in row.words.values() for w in ws]
             self.problem(
                 "row without a circuit reference skipped",
-                board=board.ref, raw=" | ".join(t for t in texts.values() if t), box=union_box(row.page, ws),
+                board=board.ref,
+                raw=" | ".join(t for t in texts.values() if t),
+                box=union_box(row.page, ws),
             )
             return
         circuit = Circuit(board=board.ref, ref=ref, page=row.page)
@@ -572,7 +616,9 @@ def assemble(
                     break
         if not sched.page_selected(page.number, page_count):
             continue
-        if sched.page_pattern and not sched.page_pattern.search("\n".join(ln.text for ln in lines_all)):
+        if sched.page_pattern and not sched.page_pattern.search(
+            "\n".join(ln.text for ln in lines_all)
+        ):
             continue
         _schedule_page(page, layout, b)
     for name, (values, boxes) in collected.items():
@@ -586,7 +632,9 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
     region = sched.region or (0.0, 0.0, page.width, page.height)
     words = [w for w in page.words if _inside(w, region)]
     lines = group_lines(words, sched.line_tolerance)
-    dropped = {id(w) for ln in lines if any(p.search(ln.text) for p in sched.ignore) for w in ln.words}
+    dropped = {
+        id(w) for ln in lines if any(p.search(ln.text) for p in sched.ignore) for w in ln.words
+    }
     words = [w for w in words if id(w) not in dropped]
     lines = [ln for ln in lines if not any(id(w) in dropped for w in ln.words)]
     rules = [r for r in page.rules if _rule_in(r, region)]
@@ -602,7 +650,9 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
     size = sizes[len(sizes) // 2] if sizes else 8.0
     headers: list[Header] = []
     if cells:
-        headers = find_headers(cols, grid_candidates(words, cells, sched.line_tolerance), anchor, 3 * size)
+        headers = find_headers(
+            cols, grid_candidates(words, cells, sched.line_tolerance), anchor, 3 * size
+        )
     cands: list[Cand] = []
     if not headers:
         cands = text_candidates(lines, words)
@@ -620,6 +670,7 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
             end_y = ln.top
             break
 
+    carried = b.current  # the board running on from the previous page, if any
     # board headings and their fields
     for k, (ln, ref) in enumerate(starts):
         if ln.top >= end_y:
@@ -630,27 +681,36 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
             stop = min(stop, starts[k + 1][0].top)
         block = [x for x in lines if ln.top - 0.5 <= x.top < stop]
         if "board_ref" not in board.cells:
-            board.cells["board_ref"] = Cell("board_ref", _value(ref, "board_ref"), union_box(page.number, ln.words))
+            board.cells["board_ref"] = Cell(
+                "board_ref", _value(ref, "board_ref"), union_box(page.number, ln.words)
+            )
         for spec in layout.board.fields:
             if spec.field in board.cells:
                 continue
             for value, ws in _label_matches(spec, block):
-                board.cells[spec.field] = b.cell(spec.field, value, union_box(page.number, ws), ref, None)
+                board.cells[spec.field] = b.cell(
+                    spec.field, value, union_box(page.number, ws), ref, None
+                )
                 break
 
     for k, h in enumerate(headers):
         before = [ref for ln, ref in starts if ln.top < h.top]
         if before:
             board = b.board(before[-1], page.number)
-        elif b.current is not None:
-            board = b.current
+        elif carried is not None:
+            board = carried
         else:
             board = b.board("", page.number)
-        bottom = min([end_y] + [x.top for x in headers[k + 1 :]] + [ln.top for ln, _ in starts if ln.top > h.bottom])
+        bottom = min(
+            [end_y]
+            + [x.top for x in headers[k + 1 :]]
+            + [ln.top for ln, _ in starts if ln.top > h.bottom]
+        )
         for i in h.missing:
             b.problem(
                 f"column header for {cols[i].field} not found on page {page.number}",
-                field=cols[i].field, board=board.ref,
+                field=cols[i].field,
+                board=board.ref,
             )
         ext = column_extents(cols, h, cands, region[0], region[2])
         data = [w for w in words if h.bottom < _centre_y(w) < bottom]
@@ -658,6 +718,8 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
         ys = grid.row_rules(key_x, h.bottom, bottom) if h.ruled else []
         if h.ruled and len(ys) >= 2:
             for y0, y1 in zip(ys, ys[1:], strict=False):
+                if not grid.closed(ext[key_col], y0, y1):
+                    break  # the table's rules stop: what follows is another box
                 band = [w for w in data if y0 < _centre_y(w) < y1]
                 row = _Row(page.number, y0, y1, _words_to_columns(band, ext))
                 b.add_row(row, ext, board)
@@ -675,8 +737,14 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
                     row.words.setdefault(i, []).extend(ws)
         for row in rows:
             b.add_row(row, ext, board)
+    last = [ref for ln, ref in starts if ln.top < end_y]
+    b.current = b.boards[last[-1]] if last else carried or b.current
 
 
 def _rule_in(r: Rule, region: tuple[float, float, float, float]) -> bool:
-    return r.x1 >= region[0] - SNAP and r.x0 <= region[2] + SNAP and r.bottom >= region[1] - SNAP \
+    return (
+        r.x1 >= region[0] - SNAP
+        and r.x0 <= region[2] + SNAP
+        and r.bottom >= region[1] - SNAP
         and r.top <= region[3] + SNAP
+    )

@@ -133,7 +133,7 @@ class _Table:
     header_top: float
     header_bottom: float
     cands: list[Cand]
-    end_line: str | None = None
+    hwords: list[Word] = field(default_factory=list)
 
 
 def _runs(lines: list[Line]) -> list[list[Line]]:
@@ -215,7 +215,7 @@ def _find_table(page: PageContent, lines: list[Line], run: list[Line]) -> _Table
             above = [ln for ln in lines if ln.bottom <= first.top + 0.5]
             prev = first
             for ln in reversed(above):
-                if prev.top - ln.bottom > 1.5 * (first.bottom - first.top) or ":" in ln.text:
+                if prev.top - ln.bottom > 2.2 * (first.bottom - first.top) or ":" in ln.text:
                     break
                 top = ln.top
                 prev = ln
@@ -228,12 +228,16 @@ def _find_table(page: PageContent, lines: list[Line], run: list[Line]) -> _Table
             w for w in words if w.vertical and w.top >= header_top - 2 and w.bottom <= header_bottom + 2]
         cands = text_candidates(hlines, hwords)
         # header labels over no data: columns that are empty on this sample
-        extra = [c for c in cands if c.nwords >= 1 and c.bottom >= header_bottom - 12
-                 and not any(_overlap(c.x0, c.x1, a, b) > 0 for a, b in slots)]
+        extra = [c for c in cands if c.bottom >= header_bottom - 12
+                 and not any(_overlap(c.x0, c.x1, a, b) > 0 for a, b in slots)
+                 and not any(o.nwords > c.nwords and o.x0 <= c.x0 + 0.5 and o.x1 >= c.x1 - 0.5
+                             and abs(o.top - c.top) < 1 for o in cands)]
         for c in extra:
             if not any(abs(_cx(c) - (a + b) / 2) < 3 for a, b in slots):
                 slots.append((c.x0, c.x1))
         slots.sort()
+        return _Table(page.number, run, first.words[0].x0, slots, ruled, header_top,
+                      header_bottom, cands, hwords)
     return _Table(page.number, run, first.words[0].x0, slots, ruled, header_top, header_bottom, cands)
 
 
@@ -252,19 +256,51 @@ def _assign_header(table: _Table) -> list[ColumnGuess]:
     cands = [c for c in table.cands if c.text.strip()]
     own: dict[int, list[Cand]] = {}
     groups: dict[int, list[Cand]] = {}
+    group_boxes: list[Cand] = []
+    single: list[Cand] = []
     for c in cands:
         hits = [i for i, (lo, hi) in enumerate(bounds)
                 if _overlap(c.x0, c.x1, lo, hi) >= min(0.35 * (hi - lo), 8.0)]
         if len(hits) >= 2:
             below = any(o.top >= c.bottom - 1 and _overlap(o.x0, o.x1, c.x0, c.x1) > 0
                         for o in cands if o is not c)
+            if below and not c.ruled:
+                # labels of neighbouring columns printed close together read as one phrase;
+                # each starts where its column's data starts, which a group label does not
+                ws = [w for w in table.hwords if not w.vertical and w.x0 >= c.x0 - 0.5
+                      and w.x1 <= c.x1 + 0.5 and w.top >= c.top - 0.5 and w.bottom <= c.bottom + 0.5]
+                aligned = {i for w in ws for i, (a, _) in enumerate(slots) if abs(w.x0 - a) <= 2.5}
+                below = len(aligned) < 2
             if below:
+                group_boxes.append(c)
                 for i in hits:
                     groups.setdefault(i, []).append(c)
         else:
-            best = max(range(len(bounds)), key=lambda i: _overlap(c.x0, c.x1, *bounds[i]))
-            if _overlap(c.x0, c.x1, *bounds[best]) > 0 or bounds[best][0] <= _cx(c) <= bounds[best][1]:
-                own.setdefault(best, []).append(c)
+            single.append(c)
+
+    def inside(c: Cand, g: Cand) -> bool:
+        return c.x0 >= g.x0 - 0.5 and c.x1 <= g.x1 + 0.5 and c.top >= g.top - 0.5 \
+            and c.bottom <= g.bottom + 0.5
+
+    def slot_of(c: Cand) -> int | None:
+        cx = _cx(c)
+        for i, (a, b) in enumerate(slots):
+            if a - 0.5 <= cx <= b + 0.5:
+                return i
+        for i, (a, b) in enumerate(slots):
+            if a - 0.5 <= c.x0 <= b + 0.5:
+                return i
+        for i, (lo, hi) in enumerate(bounds):
+            if lo <= c.x0 <= hi:
+                return i
+        return None
+
+    for c in single:
+        if any(inside(c, g) for g in group_boxes):
+            continue
+        i = slot_of(c)
+        if i is not None:
+            own.setdefault(i, []).append(c)
     for col in cols:
         mine = own.get(col.index, [])
         if mine:
@@ -340,7 +376,7 @@ def _match_fields(cols: list[ColumnGuess], table: _Table, ambiguities: list[str]
         col.term = term
         taken[f] = i
         rivals = [(s2, f2) for s2, f2 in by_col.get(i, []) if f2 != f and s - s2 < 0.1]
-        if rivals:
+        if rivals and not _combined_sep(col.samples):
             col.confidence = min(col.confidence, 0.6)
             ambiguities.append(
                 f"column {col.label!r}: {f} ({s:.2f}) or {rivals[0][1]} ({rivals[0][0]:.2f}); "

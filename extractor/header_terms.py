@@ -49,6 +49,8 @@ CIRCUIT_TERMS: list[Term] = [
         I + r"^live\s*\(?mm", I + r"line\s+(?:conductor\s+)?(?:csa|mm)"),
     *_t("cpc_csa", 0.9, I + r"\bcpc\b.*(?:mm|csa)", I + r"(?:csa|conductors?|mm).*\|\s*cpc",
         I + r"^cpc\s*\(?mm", I + r"(?:protective|earth)\s+conductor\s+(?:csa|mm)"),
+    *_t("live_csa", 0.85, I + r"^live\s*/\s*cpc"),
+    *_t("cpc_csa", 0.85, I + r"^live\s*/\s*cpc"),
     *_t("live_csa", 0.4, I + r"^(?:csa|conductor\s+csa|cable\s+size)\b"),
     *_t("max_disconnection_time", 0.9, I + r"max(?:imum)?\.?\s+disc(?:onnection|\.)?\s+time",
         I + r"disconnection\s+time", I + r"^max\s+disc"),
@@ -87,6 +89,10 @@ CIRCUIT_TERMS: list[Term] = [
         I + r"rcd.*(?:operating|trip)\s+time", I + r"^(?:x|×)\s*1$", I + r"\b1\s*[x×]\s*I",
         I + r"I\s*Δ\s*n\s*\(ms\)", I + r"^(?:rcd\s+)?time\s*\(?ms\)?$", I + r"\|\s*@\s*IΔn$",
         I + r"\|\s*ms$"),
+    *_t("rcd_time", 0.6, I + r"^\(?ms\)?$"),
+    *_t("rcd_time", 0.8, I + r"\btrip\b", I + r"\(ms\)"),
+    *_t("breaking_capacity", 0.85, r"^I\s*cn\b", r"^I\s*cs\b"),
+    *_t("ir_test_voltage", 0.85, I + r"^IR\s+test\b", I + r"\(V\)$"),
     *_t("rcd_time_5x", 0.95, r"5\s*[x×]\s*I", I + r"5\s*[x×]", I + r"\|\s*@\s*5"),
     *_t("rcd_button", 0.9, I + r"test\s+button", I + r"rcd.*button", I + r"^button$",
         I + r"rcd.*\|\s*(?:test|btn)$"),
@@ -97,7 +103,7 @@ CIRCUIT_TERMS: list[Term] = [
 # --- board and certificate labels (text printed before the value on the same line) ---------
 BOARD_LABELS: dict[str, list[str]] = {
     "board_ref": [r"(?i)(?:distribution\s+)?board\s*(?:ref(?:erence)?|designation|no\.?|id)\s*[:.]?",
-                  r"(?i)(?:distribution|consumer)\s+(?:board|unit)\s*[:.]",
+                  r"(?i)(?:distribution|consumer)\s+(?:board|unit)\b\s*[:.]?",
                   r"(?i)\bDB\s*(?:ref|no)\.?\s*[:.]?", r"(?i)^board\s*[:.]"],
     "location": [r"(?i)(?:board\s+)?location\s*[:.]?"],
     "supplied_from": [r"(?i)supplied\s+from\s*[:.]?", r"(?i)fed\s+from\s*[:.]?"],

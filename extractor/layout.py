@@ -7,6 +7,7 @@ problem, e.g. ``layouts/a.toml: columns[3].x: left edge 410 is not less than rig
 
 from __future__ import annotations
 
+import math
 import re
 import tomllib
 from dataclasses import dataclass, field
@@ -126,6 +127,8 @@ class _Ctx:
     def number(self, data: Any, key: str) -> float:
         if isinstance(data, bool) or not isinstance(data, (int, float)):
             raise self.fail(key, f"expected a number, got {type(data).__name__}")
+        if not math.isfinite(data):  # TOML allows inf and nan
+            raise self.fail(key, f"expected a finite number, got {data}")
         return float(data)
 
     def regex(self, data: Any, key: str, need_value: bool = False) -> re.Pattern[str]:

@@ -41,7 +41,7 @@ _NUMBER_RE = re.compile(
     r"""^(?P<cmp>>=|<=|>|<|≥|≤)?\s*
         (?P<num>\d+(?:[.,]\d+)?|[.,]\d+)
         \s*(?P<plus>\+)?
-        \s*(?P<unit>[a-zA-Zμ²Ω/]*(?<=[a-zA-Z])2?|[a-zA-Zμ²Ω/]*)\.?$""",  # NFKC turns "mm²" into "mm2"
+        \s*(?P<unit>[a-zA-Zμ²Ω/]*(?<=[a-zA-Z])2?|[a-zA-Zμ²Ω/]*)\.?$""",  # NFKC: "mm²" → "mm2"
     re.VERBOSE,
 )
 

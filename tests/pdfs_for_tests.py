@@ -96,27 +96,36 @@ TICK = "\x00tick"  # drawn as "3" in ZapfDingbats, read as ✓
 
 def _rows(board: str, n: int, start: int = 1) -> list[dict[str, str]]:
     rows = []
-    descs = ["Sockets ring kitchen and utility room", "Lighting", "Cooker", "Immersion heater",
-             "Smoke alarms", "Shower"]
+    descs = [
+        "Sockets ring kitchen and utility room",
+        "Lighting",
+        "Cooker",
+        "Immersion heater",
+        "Smoke alarms",
+        "Shower",
+    ]
     for k in range(n):
         i = start + k
         ring = i % 3 == 1
-        rows.append({
-            "circuit_ref": str(i),
-            "description": descs[(i - 1) % len(descs)] + (" (upstairs)" if board == "DB2" else ""),
-            "device_type": "B",
-            "rating": "32" if ring else "6",
-            "r1": f"0.{20 + i:02d}" if ring else "N/A",
-            "rn": f"0.{21 + i:02d}" if ring else "N/A",
-            "r2": f"0.{30 + i:02d}" if ring else "N/A",
-            "r1_r2": f"0.{12 + i:02d}",
-            "ir_live_live": ">999" if i % 2 else "200",
-            "ir_live_earth": "999+" if i % 4 == 0 else "150",
-            "polarity": TICK,
-            "zs": f"0,{47 + i}" if i == 2 else f"0.{47 + i}",
-            "rcd_time": "LIM" if i == 3 else ("—" if i == 4 else f"{18 + i}"),
-            "remarks": "C2 see obs." if i == 5 else "",
-        })
+        rows.append(
+            {
+                "circuit_ref": str(i),
+                "description": descs[(i - 1) % len(descs)]
+                + (" (upstairs)" if board == "DB2" else ""),
+                "device_type": "B",
+                "rating": "32" if ring else "6",
+                "r1": f"0.{20 + i:02d}" if ring else "N/A",
+                "rn": f"0.{21 + i:02d}" if ring else "N/A",
+                "r2": f"0.{30 + i:02d}" if ring else "N/A",
+                "r1_r2": f"0.{12 + i:02d}",
+                "ir_live_live": ">999" if i % 2 else "200",
+                "ir_live_earth": "999+" if i % 4 == 0 else "150",
+                "polarity": TICK,
+                "zs": f"0,{47 + i}" if i == 2 else f"0.{47 + i}",
+                "rcd_time": "LIM" if i == 3 else ("—" if i == 4 else f"{18 + i}"),
+                "remarks": "C2 see obs." if i == 5 else "",
+            }
+        )
     return rows
 
 
@@ -132,8 +141,9 @@ def _wrap(text: str, width: float, font: str, size: float) -> list[str]:
     return lines or [""]
 
 
-def _draw_grid_page(c: Any, rows_by_board: list[tuple[str, str, list[dict[str, str]]]],
-                    page_no: int, pages: int) -> None:
+def _draw_grid_page(
+    c: Any, rows_by_board: list[tuple[str, str, list[dict[str, str]]]], page_no: int, pages: int
+) -> None:
     W, H = 842, 595  # displayed page (landscape)
     c.setFont("Helvetica-Bold", 11)
     c.drawString(30, H - 30, "SCHEDULE OF TEST RESULTS   Form TG-1")
@@ -165,7 +175,11 @@ def _draw_grid_page(c: Any, rows_by_board: list[tuple[str, str, list[dict[str, s
             c.setFont("Helvetica", 7)
             c.drawCentredString((gx0 + gx1) / 2, mid + 4, label)
         for i, x in enumerate(xs):
-            in_group = 0 < i < len(GRID_COLUMNS) and GRID_COLUMNS[i][4] and GRID_COLUMNS[i][4] == GRID_COLUMNS[i - 1][4]
+            in_group = (
+                0 < i < len(GRID_COLUMNS)
+                and GRID_COLUMNS[i][4]
+                and GRID_COLUMNS[i][4] == GRID_COLUMNS[i - 1][4]
+            )
             c.line(x, mid if in_group else top, x, bot)
         for i, (_f, label, _w, vertical, _g) in enumerate(GRID_COLUMNS):
             cx = (xs[i] + xs[i + 1]) / 2
@@ -179,7 +193,9 @@ def _draw_grid_page(c: Any, rows_by_board: list[tuple[str, str, list[dict[str, s
                     c.restoreState()
             else:
                 for k, text in enumerate(label):
-                    c.drawCentredString(cx, (mid if _g else top) - 10 - 8 * k - (8 if not _g else 8), text)
+                    c.drawCentredString(
+                        cx, (mid if _g else top) - 10 - 8 * k - (8 if not _g else 8), text
+                    )
         y = bot
         for row in rows:
             desc = _wrap(row["description"], 116, "Helvetica", 7)
@@ -215,14 +231,23 @@ def build_grid(tmp: Path) -> tuple[Path, str, Truth]:
     db1a, db1b = db1[:6], db1[6:]
     db2 = _rows("DB2", 4)
     c = Canvas(str(path), pagesize=(842, 595))
-    _draw_grid_page(c, [("Board: DB1", "Location: Hall cupboard   Zdb: 0.35 Ω   Earthing: TN-C-S", db1a)], 1, 2)
+    _draw_grid_page(
+        c, [("Board: DB1", "Location: Hall cupboard   Zdb: 0.35 Ω   Earthing: TN-C-S", db1a)], 1, 2
+    )
     c.showPage()
     # page 2 is stored portrait and displayed landscape through /Rotate 90
     # (reportlab swaps the page size of a rotated page: MediaBox becomes 595 x 842)
     c.setPageRotation(90)
     c.transform(0, 1, -1, 0, 595, 0)
-    _draw_grid_page(c, [("Board: DB1 (continued)", "", db1b),
-                        ("Board: DB2", "Location: Garage   Zdb: 0.41   Earthing: TN-C-S", db2)], 2, 2)
+    _draw_grid_page(
+        c,
+        [
+            ("Board: DB1 (continued)", "", db1b),
+            ("Board: DB2", "Location: Garage   Zdb: 0.41   Earthing: TN-C-S", db2),
+        ],
+        2,
+        2,
+    )
     c.showPage()
     c.save()
 
@@ -236,10 +261,16 @@ def build_grid(tmp: Path) -> tuple[Path, str, Truth]:
     truth: Truth = {
         "certificate": {"cert_number": "TG-2024-017", "observation_codes": "C2"},
         "boards": [
-            {"ref": "DB1", "cells": {"location": "Hall cupboard", "ze": "0.35 Ω", "earthing": "TN-C-S"},
-             "circuits": circuits(db1)},
-            {"ref": "DB2", "cells": {"location": "Garage", "ze": "0.41", "earthing": "TN-C-S"},
-             "circuits": circuits(db2)},
+            {
+                "ref": "DB1",
+                "cells": {"location": "Hall cupboard", "ze": "0.35 Ω", "earthing": "TN-C-S"},
+                "circuits": circuits(db1),
+            },
+            {
+                "ref": "DB2",
+                "cells": {"location": "Garage", "ze": "0.41", "earthing": "TN-C-S"},
+                "circuits": circuits(db2),
+            },
         ],
     }
     return path, GRID_LAYOUT, truth
@@ -292,16 +323,28 @@ def build_plain(tmp: Path) -> tuple[Path, str, Truth]:
     c.drawString(380, 800, "Report R-5521")
     c.drawString(40, 770, "Distribution board CU1")
     c.drawString(220, 770, "Ze = 0.28")
-    cols = [("Cct", None, 40), ("Circuit description", None, 80), ("CSA", "(mm²)", 250),
-            ("R1+R2", "(Ω)", 320), ("IR L-E", "(MΩ)", 380), ("Zs", "(Ω)", 450)]
+    cols = [
+        ("Cct", None, 40),
+        ("Circuit description", None, 80),
+        ("CSA", "(mm²)", 250),
+        ("R1+R2", "(Ω)", 320),
+        ("IR L-E", "(MΩ)", 380),
+        ("Zs", "(Ω)", 450),
+    ]
     for label, unit, x in cols:
         c.drawString(x, 745, label)
         if unit:
             c.drawString(x, 735, unit)
     rows = [
         ("1", "Lighting ground floor", "1.5/1.0", "0.81", ">200", "1.09"),
-        ("2", "Sockets ring main serving the kitchen, dining room and conservatory",
-         "2.5/1.5", "0.29", ">200", "0.57"),
+        (
+            "2",
+            "Sockets ring main serving the kitchen, dining room and conservatory",
+            "2.5/1.5",
+            "0.29",
+            ">200",
+            "0.57",
+        ),
         ("3", "Cooker", "6.0/2.5", "0.18", "N/A", "0.46"),
         ("4", "Shower in the main bathroom upstairs", "10/4.0", "0.21", "LIM", "—"),
         ("5A", "Spare", "N/A", "N/A", "N/A", "N/A"),
@@ -324,8 +367,15 @@ def build_plain(tmp: Path) -> tuple[Path, str, Truth]:
     circuits = []
     for ref, desc, csa, r12, ir, zs in rows:
         live, _, cpc = csa.partition("/") if csa != "N/A" else (csa, "", csa)
-        cells = {"circuit_ref": ref, "description": desc, "live_csa": live, "cpc_csa": cpc or live,
-                 "r1_r2": r12, "ir_live_earth": ir, "zs": zs}
+        cells = {
+            "circuit_ref": ref,
+            "description": desc,
+            "live_csa": live,
+            "cpc_csa": cpc or live,
+            "r1_r2": r12,
+            "ir_live_earth": ir,
+            "zs": zs,
+        }
         circuits.append({"ref": ref, "cells": cells})
     truth: Truth = {
         "certificate": {"cert_number": "R-5521"},

@@ -55,21 +55,40 @@ def test_good_layout_loads(tmp_path: Path) -> None:
     [
         ('name = "mini"', 'name = "mini"\ncolour = "red"', "form.colour", "unknown key"),
         ('field = "zs"', 'field = "zed"', "columns[1].field", "unknown field 'zed'"),
-        ("header = '^Circuit'", "header = '^Circ(uit'", "columns[0].header", "bad regular expression"),
+        (
+            "header = '^Circuit'",
+            "header = '^Circ(uit'",
+            "columns[0].header",
+            "bad regular expression",
+        ),
         ("x = [700.0, 730.0]", "x = [740.0, 730.0]", "columns[1].x", "is not less than right edge"),
-        ('field = "zs"\nx = [700.0, 730.0]', 'field = "zs"\nx = [700.0, 730.0]\n'
-         '[[columns]]\nfield = "rating"\nx = [720.0, 750.0]', "columns", "overlap"),
-        ("[recognise]\nrequire = [\"SCHEDULE\"]", "", "recognise", "missing section"),
-        ('require = ["SCHEDULE"]', "require = 3", "recognise.require", "expected a list of patterns"),
+        (
+            'field = "zs"\nx = [700.0, 730.0]',
+            'field = "zs"\nx = [700.0, 730.0]\n[[columns]]\nfield = "rating"\nx = [720.0, 750.0]',
+            "columns",
+            "overlap",
+        ),
+        ('[recognise]\nrequire = ["SCHEDULE"]', "", "recognise", "missing section"),
+        (
+            'require = ["SCHEDULE"]',
+            "require = 3",
+            "recognise.require",
+            "expected a list of patterns",
+        ),
         ('pages = "2-"', "pages = true", "schedule.pages", "expected a string"),
         ("start = 'Board:\\s*(?P<value>\\S+)'", "start = 'Board:'", "board.start", "named group"),
         ('split = "/"', "split = 1", "columns[2].split", "expected a string"),
-        ("ze = 'Ze:\\s*(?P<value>\\S+)'", "zee = 'Ze:\\s*(?P<value>\\S+)'", "board.fields.zee",
-         "unknown key"),
+        (
+            "ze = 'Ze:\\s*(?P<value>\\S+)'",
+            "zee = 'Ze:\\s*(?P<value>\\S+)'",
+            "board.fields.zee",
+            "unknown key",
+        ),
     ],
 )
-def test_layout_errors_name_file_and_key(tmp_path: Path, old: str, new: str, key: str,
-                                          problem: str) -> None:
+def test_layout_errors_name_file_and_key(
+    tmp_path: Path, old: str, new: str, key: str, problem: str
+) -> None:
     assert old in GOOD
     path = _write(tmp_path, GOOD.replace(old, new, 1))
     with pytest.raises(LayoutError) as err:

@@ -1,12 +1,12 @@
-"""Rule profiles: disable a check, re-tune an option, change a severity; errors name file and key."""
+"""Rule profiles: disable a check, re-tune an option, change a severity; errors name the key."""
 
 from __future__ import annotations
 
 from pathlib import Path
 
 import pytest
-
 from casekit import make_certificate
+
 from checks.model import Outcome, Severity
 from checks.profile import DEFAULT_PROFILE, ProfileError, load_profile, parse_profile
 from checks.runner import run_checks

@@ -59,8 +59,9 @@ K = ValueKind
         ("0.42Ω", N, None, K.UNREADABLE, None),  # a unit on a unitless field
     ],
 )
-def test_trade_tokens(raw: str, kind: FieldKind, unit: str | None, want: ValueKind,
-                      number: float | None) -> None:
+def test_trade_tokens(
+    raw: str, kind: FieldKind, unit: str | None, want: ValueKind, number: float | None
+) -> None:
     v = parse_value(raw, kind, unit)
     assert v.kind is want, (raw, v)
     assert v.raw == raw

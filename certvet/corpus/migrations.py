@@ -138,7 +138,7 @@ CREATE TABLE board_readings (
     board_id   INTEGER PRIMARY KEY REFERENCES boards(id) ON DELETE CASCADE,
     cert_id    INTEGER NOT NULL,
     n_readings INTEGER NOT NULL,
-    readings   TEXT NOT NULL                  -- JSON [[circuit ref, [[field, mantissa, decimals, raw]…]]…]
+    readings   TEXT NOT NULL  -- JSON [[circuit ref, [[field, mantissa, decimals, raw]…]]…]
 );
 CREATE INDEX board_readings_cert ON board_readings(cert_id);
 

@@ -17,7 +17,6 @@ from collections import defaultdict
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 
-from checks.base import option
 from certvet.corpus.fingerprints import (
     BoardReadings,
     BoardSignature,
@@ -26,6 +25,7 @@ from certvet.corpus.fingerprints import (
     relation,
     signatures,
 )
+from checks.base import option
 
 
 @dataclass(frozen=True)
@@ -297,7 +297,8 @@ def find_similar(
         if cid != exclude_cert:
             info[bid] = (cid, BoardReadings.from_json(ref, pos, text))
 
-    blocks: dict[int, list[tuple[int, BlockMatch]]] = defaultdict(list)  # cert → (query board, match)
+    # certificate → [(query board, match)]
+    blocks: dict[int, list[tuple[int, BlockMatch]]] = defaultdict(list)
     matched_pairs: set[tuple[int, int]] = set()
     for qi, bid in sorted(lsh_pairs):
         if bid not in info:

@@ -270,8 +270,8 @@ class CertificateStream:
                 continue
             cert = self._certificate()
             self._history.append(cert)
-            if len(self._history) > 5000:
-                del self._history[: len(self._history) - 5000]
+            if len(self._history) > 2000:
+                del self._history[: len(self._history) - 2000]
             yield cert
 
     def take(self, n: int) -> list[Certificate]:

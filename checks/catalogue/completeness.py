@@ -1,4 +1,4 @@
-"""Polarity and completeness: what a schedule and certificate must record, and whether it adds up."""
+"""Polarity and completeness: what a certificate must record, and whether it adds up."""
 
 from __future__ import annotations
 

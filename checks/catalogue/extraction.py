@@ -84,23 +84,23 @@ class CellUnreadable(CertificateCheck):
         for p in cert.problems:
             if p.field is not None and (p.board, p.circuit, p.field) in seen:
                 continue
-            board = boards.get(p.board) if p.board else None
-            circuit = None
-            if board is not None and p.circuit is not None:
-                circuit = next((c for c in board.circuits if c.ref == p.circuit), None)
+            pboard: Board | None = boards.get(p.board) if p.board else None
+            pcircuit: Circuit | None = None
+            if pboard is not None and p.circuit is not None:
+                pcircuit = next((c for c in pboard.circuits if c.ref == p.circuit), None)
             raw = f" (text: {p.raw!r})" if p.raw else ""
             finding = self.make(
                 cert,
                 f"Extraction problem with {_label(p.field)}: {p.message}{raw}.",
-                board=board,
-                circuit=circuit,
+                board=pboard,
+                circuit=pcircuit,
                 field=p.field,
                 recorded=p.raw if p.raw is not None else "",
             )
             finding = dataclasses.replace(
                 finding,
-                board=p.board if board is None else finding.board,
-                circuit=p.circuit if circuit is None else finding.circuit,
+                board=p.board if pboard is None else finding.board,
+                circuit=p.circuit if pcircuit is None else finding.circuit,
                 box=p.box or finding.box,
                 page=p.box.page if p.box else finding.page,
             )

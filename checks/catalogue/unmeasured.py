@@ -17,8 +17,7 @@ from checks.catalogue.rcd import is_rcbo
 from checks.devices import circuit_kind, is_ring
 from checks.model import Finding, Severity
 from checks.registry import register
-from extractor.fields import FIELDS
-from extractor.records import Board, Certificate, Circuit, Value, ValueKind
+from extractor.records import Board, Certificate, Circuit, Value
 
 _DECIMALS = re.compile(r"[.,](\d+)")
 
@@ -123,15 +122,17 @@ class RingAllExactQuarter(CertificateCheck):
     suggests the column was worked out, not measured.
 
     Known false alarms:
-    Honest readings land on the quarter quite often, so on a certificate with only two
-    rings this pattern appears by chance on an appreciable share of genuine certificates.
-    That is why this check is a preview: reported, never failing a run.
+    Honest readings land on the quarter quite often (our estimate, no source: perhaps one
+    ring in three or four), so with only two rings the pattern would appear by chance on
+    roughly one genuine certificate in ten; the default therefore waits for three rings
+    (roughly one in thirty to sixty). A scheme that wants two can set min_rings = 2.
 
     Failing example:
-    Ring 1: r1 0.52, r2 0.86, R1+R2 0.35; ring 2: r1 0.40, r2 0.66, R1+R2 0.27.
+    Ring 1: r1 0.52, r2 0.86, R1+R2 0.35; ring 2: r1 0.40, r2 0.66, R1+R2 0.27; ring 3:
+    r1 0.36, r2 0.56, R1+R2 0.23.
 
     Passing example:
-    Ring 1 as above; ring 2: r1 0.40, r2 0.66, R1+R2 0.29.
+    The same, with ring 2's R1+R2 0.29.
 
     Options:
     min_rings: fewest rings with r1, r2 and R1+R2 before the pattern is reported.
@@ -147,12 +148,11 @@ class RingAllExactQuarter(CertificateCheck):
     reference = "BS 7671:2018+A2:2022 Reg 643.2.1; pattern: common practice, no source"
     basis = "common practice"
     group = "unmeasured"
-    preview = True
 
     @dataclass(frozen=True)
     class Options:
         min_rings: int = option(
-            2, "common practice, no source",
+            3, "common practice, no source (3 rather than 2 to keep chance matches rare)",
             "fewest rings with r1, r2 and R1+R2 before the pattern is reported")
 
     def check_certificate(self, cert: Certificate) -> Iterable[Finding] | None:
@@ -186,34 +186,36 @@ def _signature(c: Circuit) -> tuple[object, ...]:
 
 
 @register
-class IdenticalReadingsAcrossKinds(CertificateCheck):
-    """The same R1+R2 or Zs on circuits of different kinds or sizes.
+class IdenticalReadingsAcrossKinds(BoardCheck):
+    """The same R1+R2 and Zs pair on circuits of different kinds or sizes.
 
     What it checks:
-    Plain R1+R2 and Zs readings across the certificate. It queries a value shared by at
-    least the option's number of circuits (3 by default) that are not all of one kind
-    and size (ring or radial, live and cpc size, rating), and any two circuits of different
-    kinds or sizes that share both their R1+R2 and their Zs (a copied row).
+    On each board, circuits with a plain R1+R2 and a plain Zs. It queries a pair of readings
+    (the same R1+R2 and the same Zs) shared by at least the option's number of circuits (3
+    by default) that are not all of one kind and size (ring or radial, live and cpc size,
+    rating).
 
     Why it matters:
     R1+R2 depends on the cable's size and length; a lighting circuit in 1.0 mm² and a cooker
-    circuit in 6 mm² giving the same figure, again and again, points to readings copied
-    rather than measured.
+    circuit in 6 mm² giving the same figures, again and again, points to a row of readings
+    copied rather than measured.
 
     Known false alarms:
-    Readings cluster (short radials all read 0.1-0.3 Ω), so two circuits sharing one value
-    is common by chance and is not reported; three sharing one value happens by chance on
-    roughly one or two certificates in a hundred with ten circuits (estimate, common
-    practice, no source).
+    Readings cluster (short radials in large cable all read 0.1-0.3 Ω), so one shared value,
+    even on three or four circuits of a realistic board, happens by chance and is not
+    reported; the pair is required because a measured Zs varies independently by a few
+    hundredths. Where Zs was calculated as Ze + R1+R2 the pair is no stronger than one
+    value, and chance matches become likely: that is why this check is a preview.
 
     Failing example:
-    Lights (1.5/1.0 B6), cooker (6/2.5 B40) and shower (10/4 B40) all with R1+R2 0.41.
+    Lights (1.5/1.0 B6), cooker (6/2.5 B40) and shower (10/4 B40) all with R1+R2 0.41 Ω and
+    Zs 0.76 Ω.
 
     Passing example:
-    Lights 0.41, cooker 0.18, shower 0.12.
+    Lights 0.41/0.76, cooker 0.41/0.74, shower 0.41/0.78 (R1+R2 shared, Zs not).
 
     Options:
-    min_circuits: fewest circuits sharing one reading before it is reported.
+    min_circuits: fewest circuits sharing one R1+R2 and Zs pair before it is reported.
 
     Reference:
     Common practice, no source.
@@ -225,68 +227,37 @@ class IdenticalReadingsAcrossKinds(CertificateCheck):
     reference = "common practice, no source"
     basis = "common practice"
     group = "unmeasured"
+    preview = True
 
     @dataclass(frozen=True)
     class Options:
         min_circuits: int = option(
             3, "common practice, no source",
-            "fewest circuits (not all alike) sharing one reading before it is reported")
+            "fewest circuits (not all alike) sharing one R1+R2 and Zs pair before reporting")
 
-    FIELDS = ("r1_r2", "zs")
-
-    def check_certificate(self, cert: Certificate) -> Iterable[Finding] | None:
-        rows = [(b, c) for b, c in cert.circuits()
-                if any(c.number(f) is not None for f in self.FIELDS)]
-        if len(rows) < 2:
-            return None
-        found: list[Finding] = []
-        reported: set[tuple[str, str]] = set()
-        for name in self.FIELDS:
-            groups: dict[float, list[tuple[Board, Circuit]]] = {}
-            for b, c in rows:
-                x = c.number(name)
-                if x is not None:
-                    groups.setdefault(round(x, 4), []).append((b, c))
-            for value, members in sorted(groups.items()):
-                if len(members) < self.options.min_circuits:
-                    continue
-                if len({_signature(c) for _, c in members}) < 2:
-                    continue
-                found.append(self._finding(cert, name, value, members))
-                reported.update((b.ref, c.ref) for b, c in members)
-        # Two unlike circuits sharing both R1+R2 and Zs: a copied row.
-        pairs: dict[tuple[float, float], list[tuple[Board, Circuit]]] = {}
-        for b, c in rows:
+    def check_board(self, cert: Certificate, board: Board) -> Iterable[Finding] | None:
+        pairs: dict[tuple[float, float], list[Circuit]] = {}
+        for c in board.circuits:
             r12, zs = c.number("r1_r2"), c.number("zs")
             if r12 is not None and zs is not None:
-                pairs.setdefault((round(r12, 4), round(zs, 4)), []).append((b, c))
+                pairs.setdefault((round(r12, 4), round(zs, 4)), []).append(c)
+        if sum(len(m) for m in pairs.values()) < 2:
+            return None
+        found: list[Finding] = []
         for (r12, zs), members in sorted(pairs.items()):
-            if len(members) < 2 or len({_signature(c) for _, c in members}) < 2:
+            if len(members) < self.options.min_circuits:
                 continue
-            if all((b.ref, c.ref) in reported for b, c in members):
+            if len({_signature(c) for c in members}) < 2:
                 continue
-            refs = ", ".join(c.ref for _, c in members)
-            b, c = members[0]
+            refs = ", ".join(c.ref for c in members)
             found.append(self.make(
                 cert,
-                f"Circuits {refs}, of different kinds or sizes, record the same R1+R2 "
-                f"{fmt(r12, 'Ω')} and the same Zs {fmt(zs, 'Ω')}: a copied row?",
-                board=b, circuit=c, field="r1_r2",
+                f"{len(members)} circuits of different kinds or sizes ({refs}) all record "
+                f"R1+R2 {fmt(r12, 'Ω')} and Zs {fmt(zs, 'Ω')}: copied readings?",
+                board=board, circuit=members[0], field="r1_r2",
                 expected="readings that follow each circuit's cable size and length",
             ))
         return found
-
-    def _finding(self, cert: Certificate, name: str, value: float,
-                 members: list[tuple[Board, Circuit]]) -> Finding:
-        refs = ", ".join(c.ref for _, c in members)
-        b, c = members[0]
-        return self.make(
-            cert,
-            f"{len(members)} circuits of different kinds or sizes ({refs}) all record "
-            f"{FIELDS[name].label} {fmt(value, 'Ω')}.",
-            board=b, circuit=c, field=name,
-            expected="readings that follow each circuit's cable size and length",
-        )
 
 
 @register
@@ -405,12 +376,12 @@ class LastDigitPreference(CertificateCheck):
     """The last digits of the readings are not evenly spread (a chi-square test).
 
     What it checks:
-    The last digit of every plain reading on the certificate (hundredths of an ohm for r1,
-    rn, r2, R1+R2 and Zs; whole milliseconds for RCD times). With at least the minimum
-    sample, a chi-square test of uniformity over the ten digits (9 degrees of freedom) is
-    made; a p-value below the significance level α is queried. The false-alarm rate on
-    genuinely measured readings is α: with the default α = 0.001, about one honest
-    certificate in a thousand is queried.
+    The last digit of every plain reading on the certificate in the option's fields
+    (hundredths of an ohm for r1, r2, R1+R2, R2 and Zs; whole milliseconds for RCD
+    times). With at least the minimum sample, a chi-square test of uniformity over the
+    ten digits (9 degrees of freedom) is made; a p-value below the significance level α
+    is queried. The false-alarm rate on genuinely measured readings is α: with the
+    default α = 0.001, about one honest certificate in a thousand is queried.
 
     Why it matters:
     People inventing numbers prefer some digits (0 and 5, or favourites) and avoid others;
@@ -418,9 +389,11 @@ class LastDigitPreference(CertificateCheck):
     down rather than measured.
 
     Known false alarms:
-    Certificates where many readings are the same by design (one shared RCD copied to
-    every circuit it protects, r1 = rn on every ring), which cluster digits without any
-    invention; the minimum sample and the small α keep these rare.
+    Readings that are tied to each other by design repeat a digit without any invention:
+    one shared RCD's time copied to every circuit it protects, rn equal to r1 on every ring
+    (rn is left out of the default fields for that reason), Zs close to Ze + R1+R2. These
+    make the true false-alarm rate somewhat above α; the minimum sample and the small α
+    keep it low.
 
     Failing example:
     48 readings whose last digits are all 0 or 5.
@@ -453,7 +426,7 @@ class LastDigitPreference(CertificateCheck):
                               "significance level: the false-alarm rate on honest readings")
         min_digits: int = option(40, "common practice, no source (about 4 expected per digit)",
                                  "fewest readings before the test is made")
-        fields: str = option("r1,rn,r2,r1_r2,r1_rn,r2_only,zs,rcd_time",
+        fields: str = option("r1,r2,r1_r2,r2_only,zs,rcd_time",
                              "common practice, no source",
                              "comma-separated circuit fields whose readings are tested")
 

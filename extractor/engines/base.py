@@ -22,7 +22,7 @@ class Word:
     bottom: float
     vertical: bool = False  # text turned 90° (read bottom-to-top or top-to-bottom)
     size: float = 0.0  # font size in points
-    direction: str = "ltr"  # reading direction: "ltr", "rtl", "btt" (turned 90° anticlockwise), "ttb"
+    direction: str = "ltr"  # "ltr", "rtl", "btt" (turned 90° anticlockwise), "ttb"
 
 
 @dataclass(frozen=True)

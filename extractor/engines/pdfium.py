@@ -211,6 +211,7 @@ class _Reader:
         last_key: int | None = -1
         info: _ObjInfo | None = None
         widths = self.widths
+        last_origin = (math.nan, math.nan)
         for i in range(n):
             obj = get_obj(tp, i)
             key = ctypes.cast(obj, ctypes.c_void_p).value
@@ -229,6 +230,16 @@ class _Reader:
                 unreadable += 1
             get_origin(tp, i, *origin_args)
             x, y = ox.value, oy.value
+            if key == last_key and (x, y) == last_origin and out:
+                # PDFium expands a ligature glyph (ﬃ) into several chars at one origin: keep
+                # one char, as pdfplumber does, spanning the glyph's loose box
+                prev = out[-1]
+                get_loose(tp, i, rect_ref)
+                lx0, _, lx1, _ = tf.box([rect.left, rect.right], [rect.bottom, rect.top])
+                out[-1] = Char(prev.text + ch, min(prev.x0, lx0), prev.top, max(prev.x1, lx1),
+                               prev.bottom, prev.size, prev.fontname, prev.upright, prev.direction)
+                continue
+            last_origin = (x, y)
             a, b, c, d, fs = info.a, info.b, info.c, info.d, info.size
             # the advance (em fraction) from the font's width table, cached per font and char
             width = widths.get((info.font, ch))

@@ -121,7 +121,8 @@ class PlumberDocument:
                 content = page_content(page)
             except Exception as exc:  # noqa: BLE001
                 raise InputError(
-                    self.path, f"damaged or truncated PDF: page {page.page_number}: {_one_line(exc)}"
+                    self.path,
+                    f"damaged or truncated PDF: page {page.page_number}: {_one_line(exc)}",
                 ) from None
             finally:
                 page.close()

@@ -32,8 +32,23 @@ DIRECTIONS = ("ltr", "rtl", "btt", "ttb")
 # The Symbol base-14 font draws Greek letters and maths signs at Latin code points (reportlab
 # uses it for "Ω" in the standard fonts); libraries that ignore its encoding report "W".
 SYMBOL = {
-    "W": "Ω", "m": "μ", "D": "Δ", "a": "α", "b": "β", "p": "π", "s": "σ", "q": "θ", "l": "λ",
-    "³": "≥", "£": "≤", "´": "×", "±": "±", "°": "°", "¢": "′", "²": "″", "-": "−",
+    "W": "Ω",
+    "m": "μ",
+    "D": "Δ",
+    "a": "α",
+    "b": "β",
+    "p": "π",
+    "s": "σ",
+    "q": "θ",
+    "l": "λ",
+    "³": "≥",
+    "£": "≤",
+    "´": "×",
+    "±": "±",
+    "°": "°",
+    "¢": "′",
+    "²": "″",
+    "-": "−",
 }
 
 
@@ -169,6 +184,8 @@ def build_words(chars: Iterable[Char]) -> list[Word]:
     for direction in sorted(by_dir, key=lambda d: DIRECTIONS.index(d) if d in DIRECTIONS else 99):
         for line in _lines(by_dir[direction]):
             words.extend(_words_of_line(line))
-    horiz = sorted((w for w in words if not w.vertical), key=lambda w: (round(w.top, 1), w.x0, w.text))
+    horiz = sorted(
+        (w for w in words if not w.vertical), key=lambda w: (round(w.top, 1), w.x0, w.text)
+    )
     vert = sorted((w for w in words if w.vertical), key=lambda w: (round(w.x0, 1), w.top, w.text))
     return horiz + vert

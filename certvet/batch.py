@@ -1,0 +1,506 @@
+"""Batch runs: audit a folder (or list) of PDFs into the corpus, resumable and never stopped
+by one bad file.
+
+    from certvet.batch import run_batch
+    report = run_batch([Path("inbox/")], layouts=load_layouts([Path("layouts/")]),
+                       store=Path("corpus.sqlite"), out_dir=Path("out"))
+    print(report.totals)          # {'audited': 412, 'skipped': 30, 'failed': 3}
+
+How a run goes:
+
+1. Inputs are expanded (folders recursively, *.pdf) and hashed (sha256) in this process.
+2. A file whose hash is already in the store is *skipped* (audited or failed before; with
+   ``retry_failed`` a failed one runs again). A second input with the same bytes as an earlier
+   input of this run is skipped too: the store is keyed by content.
+3. Every other file runs in its own child process (certvet/workers.py: time and memory limits),
+   or on a Dask cluster (certvet/distributed.py) when ``scheduler`` is given. The child picks
+   the layout whose recognise rule matches, extracts, runs the checks and writes the
+   certificate's own reports (``<stem>-<sha8>.html|json|csv`` in ``out_dir/certificates``).
+4. This process alone writes the store: one transaction per file, as each result arrives
+   (``Corpus.add`` / ``Corpus.add_failure``). Killing the run at any moment loses nothing
+   already stored, and a re-run skips it (nothing is stored twice).
+5. After the files: the cross-certificate checks of certvet.corpus.crosscheck (copied
+   schedules, repeats at an address, reused numbers, workload) for every certificate of this
+   batch's inputs — audited now or earlier, so a resumed run reports what one uninterrupted
+   run would — become findings of the batch (``cross-findings.csv`` / ``.json``), and the
+   portfolio page is written (``out_dir/portfolio.html``).
+
+Every input ends in exactly one of ``audited``, ``skipped`` or ``failed`` (with a one-line
+reason naming the file): ``len(report.outcomes) == len(inputs)``.
+
+Exit status (``BatchReport.exit_code``, as ``certvet audit``): 3 when any input is failed (now,
+or skipped because it failed before); else 1 when any certificate of the batch has a breach or
+impossible finding; else 0. Cross-certificate findings are queries: they never change it.
+"""
+
+from __future__ import annotations
+
+import csv
+import json
+import os
+from collections.abc import Callable, Iterable, Iterator, Sequence
+from dataclasses import dataclass, field
+from enum import StrEnum
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+from certvet.workers import Limits, Outcome, run_isolated
+from checks.profile import DEFAULT_PROFILE, Profile
+from extractor.errors import InputError
+from extractor.layout import Layout
+
+if TYPE_CHECKING:
+    from certvet.api import AuditResult
+    from certvet.corpus.crosscheck import CrossFinding
+    from certvet.corpus.store import Corpus
+    from reports.portfolio import PortfolioData
+
+__all__ = ["BatchReport", "FileOutcome", "Status", "run_batch", "write_portfolio"]
+
+EXIT_CLEAN, EXIT_FINDINGS, EXIT_FAILED = 0, 1, 3
+REPORTS_SUBDIR = "certificates"
+
+
+class Status(StrEnum):
+    AUDITED = "audited"
+    SKIPPED = "skipped"
+    FAILED = "failed"
+
+
+@dataclass(frozen=True)
+class FileOutcome:
+    """How one input ended. `reason` is one line naming the file (failed or skipped)."""
+
+    path: Path
+    status: Status
+    sha256: str | None
+    reason: str | None = None
+    layout: str | None = None
+    certificate: str | None = None  # certificate name (number, or file name)
+    verdict: str | None = None  # verdict headline, when audited in this run
+    findings: int = 0  # counted (non-preview) findings, when audited in this run
+    breach: bool = False  # a breach or impossible finding (now or stored earlier)
+    previously_failed: bool = False  # skipped, and the stored outcome is a failure
+    reports: dict[str, Path] = field(default_factory=dict)
+
+    def line(self) -> str:
+        """One line for the console."""
+        if self.status is Status.AUDITED:
+            return (f"{(self.verdict or '').upper():<22} {self.path}  ({self.findings} findings, "
+                    f"layout {self.layout})")
+        if self.status is Status.SKIPPED:
+            return f"{'SKIPPED':<22} {self.reason}"
+        return f"{'FAILED':<22} {self.reason}"
+
+
+@dataclass
+class BatchReport:
+    store: Path
+    out_dir: Path | None
+    outcomes: list[FileOutcome] = field(default_factory=list)
+    cross_findings: list[CrossFinding] = field(default_factory=list)
+    portfolio: Path | None = None
+
+    def count(self, status: Status) -> int:
+        return sum(1 for o in self.outcomes if o.status is status)
+
+    @property
+    def totals(self) -> dict[str, int]:
+        return {s.value: self.count(s) for s in Status}
+
+    @property
+    def failed(self) -> list[FileOutcome]:
+        return [o for o in self.outcomes if o.status is Status.FAILED]
+
+    @property
+    def layouts_used(self) -> dict[str, list[Path]]:
+        """Which layout read which file (files audited in this run)."""
+        out: dict[str, list[Path]] = {}
+        for o in self.outcomes:
+            if o.status is Status.AUDITED and o.layout:
+                out.setdefault(o.layout, []).append(o.path)
+        return out
+
+    @property
+    def unrecognised(self) -> list[FileOutcome]:
+        """Failed because no layout recognises the form."""
+        return [o for o in self.failed if o.reason and "no layout recognises" in o.reason]
+
+    @property
+    def exit_code(self) -> int:
+        if any(o.status is Status.FAILED or o.previously_failed for o in self.outcomes):
+            return EXIT_FAILED
+        return EXIT_FINDINGS if any(o.breach for o in self.outcomes) else EXIT_CLEAN
+
+    @property
+    def shas(self) -> list[str]:
+        return [o.sha256 for o in self.outcomes if o.sha256]
+
+    def portfolio_data(self) -> PortfolioData:
+        """The portfolio view-model over this batch's certificates (read from the store)."""
+        from certvet.corpus.store import Corpus
+
+        reports = {o.sha256: o.reports["html"] for o in self.outcomes
+                   if o.sha256 and "html" in o.reports}
+        failures = [(str(o.path), o.reason or "") for o in self.failed]
+        with Corpus(self.store) as corpus:
+            return collect_portfolio(corpus, shas=set(self.shas), reports=reports,
+                                     failures=failures, reports_dir=self._reports_dir(),
+                                     cross=self.cross_findings, title="Batch portfolio")
+
+    def _reports_dir(self) -> Path | None:
+        return self.out_dir / REPORTS_SUBDIR if self.out_dir else None
+
+
+# --- the per-file job (runs in a child process, or on a Dask worker) ------------------------
+
+
+def report_stem(source: Path, sha256: str) -> str:
+    """File stem of a certificate's own reports: unique even for equal names in subfolders."""
+    return f"{source.stem}-{sha256[:8]}"
+
+
+def write_certificate_reports(result: AuditResult, out_dir: Path, profile: Profile
+                              ) -> dict[str, Path]:
+    from certvet import __version__
+    from reports.csvout import write_csv
+    from reports.html import write_html
+    from reports.jsonout import write_json
+
+    out_dir.mkdir(parents=True, exist_ok=True)
+    stem = report_stem(result.source, result.certificate.sha256)
+    cert, res = result.certificate, result.results
+    html, js = out_dir / f"{stem}.html", out_dir / f"{stem}.json"
+    write_html(cert, res, html, certvet_version=__version__, profile=profile)
+    write_json(cert, res, js, certvet_version=__version__, profile=profile)
+    records, findings = write_csv(cert, res, out_dir / stem)
+    return {"html": html, "json": js, "records_csv": Path(records),
+            "findings_csv": Path(findings)}
+
+
+@dataclass(frozen=True)
+class AuditJob:
+    """Audit one file: choose its layout, extract, check, write its reports.
+
+    Picklable (layouts and profile are plain data), so the same job runs in a forked child
+    or on a Dask worker.
+    """
+
+    layouts: tuple[Layout, ...]
+    profile: Profile = DEFAULT_PROFILE
+    reports_dir: Path | None = None
+    engine: str | None = None
+    password: str | None = None
+
+    def __call__(self, path: Path) -> AuditResult:
+        from certvet.api import audit_file
+
+        result = audit_file(path, layouts=self.layouts, profile=self.profile, out_dir=None,
+                            engine=self.engine, password=self.password)
+        if self.reports_dir is not None:
+            result.outputs = write_certificate_reports(result, self.reports_dir, self.profile)
+        return result
+
+
+# --- the run --------------------------------------------------------------------------------
+
+
+def _hash(path: Path) -> tuple[str | None, str | None]:
+    """(sha256, None) or (None, one-line reason)."""
+    from extractor.api import file_sha256
+
+    if path.is_dir():
+        return None, f"{path}: is a folder, not a PDF"
+    if not path.exists():
+        return None, f"{path}: file not found"
+    try:
+        return file_sha256(str(path)), None
+    except InputError as exc:
+        return None, str(exc).replace("\n", " ")
+
+
+def _one_line(text: str) -> str:
+    return " ".join(text.split())
+
+
+def run_batch(
+    inputs: Iterable[Path | str],
+    *,
+    layouts: Sequence[Layout],
+    store: Path | str,
+    out_dir: Path | str | None = None,
+    workers: int | None = None,
+    limits: Limits = Limits(),
+    profile: Profile | None = None,
+    engine: str | None = None,
+    password: str | None = None,
+    on_event: Callable[[FileOutcome], None] | None = None,
+    retry_failed: bool = False,
+    scheduler: str | None = None,
+    portfolio: bool = True,
+    on_start: Callable[[int], None] | None = None,
+) -> BatchReport:
+    """Audit every input into the store; see the module docstring. Never raises for a bad
+    file; raises CorpusError (one line) when the store itself cannot be used."""
+    from certvet.api import expand_inputs
+    from certvet.corpus.store import Corpus
+
+    prof = profile or DEFAULT_PROFILE
+    out = Path(out_dir) if out_dir is not None else None
+    files = expand_inputs([Path(p) for p in inputs])
+    report = BatchReport(Path(store), out)
+    if on_start:
+        on_start(len(files))
+
+    def emit(o: FileOutcome) -> None:
+        report.outcomes.append(o)
+        if on_event:
+            on_event(o)
+
+    with Corpus(store) as corpus:
+        stored = {f.sha256: f for f in corpus.files()}
+        breach_shas = {r[0] for r in corpus.conn.execute(
+            "SELECT c.sha256 FROM certificates c JOIN findings f ON f.cert_id = c.id "
+            "WHERE f.severity >= 3 AND f.preview = 0")}
+        todo: list[Path] = []
+        sha_of: dict[Path, str] = {}
+        first_with: dict[str, Path] = {}
+        for path in files:
+            sha, err = _hash(path)
+            if sha is None:
+                emit(FileOutcome(path, Status.FAILED, None, reason=err))
+                continue
+            if sha in first_with:
+                emit(FileOutcome(path, Status.SKIPPED, sha, reason=(
+                    f"{path}: same content as {first_with[sha]} (already in this batch)"),
+                    breach=sha in breach_shas))
+                continue
+            first_with[sha] = path
+            row = stored.get(sha)
+            if row is not None and not (retry_failed and row.status == "failed"):
+                failed_before = row.status == "failed"
+                what = (f"failed before: {row.failure_reason}" if failed_before
+                        else f"already audited ({row.audited_at}, layout {row.layout})")
+                emit(FileOutcome(path, Status.SKIPPED, sha, reason=_one_line(f"{path}: {what}"),
+                                 layout=row.layout, breach=sha in breach_shas,
+                                 previously_failed=failed_before))
+                continue
+            todo.append(path)
+            sha_of[path] = sha
+
+        reports_dir = out / REPORTS_SUBDIR if out else None
+        job = AuditJob(tuple(layouts), prof, reports_dir, engine, password)
+        outcomes: Iterator[Outcome]
+        if scheduler:
+            from certvet.distributed import run_on_cluster
+
+            outcomes = run_on_cluster(todo, job, scheduler, limits=limits)
+        else:
+            outcomes = run_isolated(todo, job, workers=workers, limits=limits)
+        for oc in outcomes:
+            emit(_store_outcome(corpus, oc, sha_of[oc.path]))
+
+        report.cross_findings = cross_findings(corpus, set(report.shas))
+    if out is not None:
+        write_cross_findings(report.cross_findings, out)
+        if portfolio:
+            report.portfolio = out / "portfolio.html"
+            write_portfolio(report, report.portfolio)
+    return report
+
+
+def _store_outcome(corpus: Corpus, oc: Outcome, sha: str) -> FileOutcome:
+    """Write one result to the store (one transaction) and say how the file ended."""
+    from certvet.corpus.store import CorpusError
+
+    if oc.error is None and oc.result is not None:
+        res: AuditResult = oc.result
+        try:
+            corpus.add(res.certificate, res.results)
+        except CorpusError as exc:
+            oc = Outcome(oc.path, None, f"{oc.path}: could not be stored ({exc})")
+        else:
+            verdict = res.verdict
+            counted = [f for f in res.results.findings if not f.preview]
+            return FileOutcome(oc.path, Status.AUDITED, sha, layout=res.layout,
+                               certificate=res.certificate.name, verdict=verdict.label,
+                               findings=len(counted), breach=res.has_breach,
+                               reports=dict(res.outputs))
+    reason = _one_line(oc.error or f"{oc.path}: no result")
+    layout = None
+    corpus.add_failure(sha, str(oc.path), reason, layout=layout)
+    return FileOutcome(oc.path, Status.FAILED, sha, reason=reason)
+
+
+# --- cross-certificate findings -----------------------------------------------------------
+
+
+def cross_findings(corpus: Corpus, shas: set[str]) -> list[CrossFinding]:
+    """Copies, repeats, reused numbers and workload for the certificates with these hashes."""
+    from certvet.corpus.crosscheck import check_certificate, workload
+
+    ids = {}
+    for sha in sorted(shas):
+        cid = corpus.find(sha)
+        if cid is not None:
+            ids[cid] = corpus.certificate_row(cid).name
+    found: list[CrossFinding] = []
+    for cid in sorted(ids):
+        found.extend(check_certificate(corpus, cid))
+    names = set(ids.values())
+    found.extend(cf for cf in workload(corpus) if cf.finding.certificate in names)
+    found.sort(key=lambda cf: (cf.finding.certificate, cf.finding.check_id,
+                               cf.finding.related, cf.finding.message))
+    return found
+
+
+def write_cross_findings(found: Sequence[CrossFinding], out_dir: Path) -> tuple[Path, Path]:
+    from checks.model import FINDING_COLUMNS
+
+    out_dir.mkdir(parents=True, exist_ok=True)
+    rows = [cf.finding.to_dict() for cf in found]
+    js = out_dir / "cross-findings.json"
+    js.write_text(json.dumps({"format_version": 1, "findings": rows}, indent=1),
+                  encoding="utf-8")
+    cs = out_dir / "cross-findings.csv"
+    cols = [c for c in FINDING_COLUMNS if c != "box"] + ["related"]
+    with cs.open("w", newline="", encoding="utf-8") as fh:
+        w = csv.writer(fh)
+        w.writerow(cols)
+        for r in rows:
+            w.writerow(["; ".join(r[c]) if c == "related" else r[c] for c in cols])
+    return js, cs
+
+
+# --- the portfolio (view-model from the store; rendering lives in reports/portfolio.py) -----
+
+
+def write_portfolio(store_or_results: Any, path: Path | str, *,
+                    reports_dir: Path | None = None) -> Path:
+    """Write the portfolio page for a BatchReport, a Corpus, or a store path."""
+    from certvet.corpus.store import Corpus
+    from reports.portfolio import render_portfolio
+
+    if isinstance(store_or_results, BatchReport):
+        data = store_or_results.portfolio_data()
+    elif isinstance(store_or_results, Corpus):
+        data = collect_portfolio(store_or_results, reports_dir=reports_dir)
+    else:
+        with Corpus(Path(store_or_results)) as corpus:
+            data = collect_portfolio(corpus, reports_dir=reports_dir)
+    return render_portfolio(data, Path(path))
+
+
+def collect_portfolio(
+    corpus: Corpus,
+    *,
+    shas: set[str] | None = None,
+    reports: dict[str, Path] | None = None,
+    failures: Sequence[tuple[str, str]] | None = None,
+    reports_dir: Path | None = None,
+    cross: Sequence[CrossFinding] | None = None,
+    title: str = "Corpus portfolio",
+) -> PortfolioData:
+    """Gather the portfolio view-model from the store: the certificates with these hashes
+    (every certificate when `shas` is None), their findings, the cross-certificate findings,
+    readings for the charts, and a link to each certificate's own report when known
+    (`reports` by hash, else `reports_dir/<stem>-<sha8>.html` when that file exists)."""
+    from certvet.corpus.crosscheck import CrossCheckOptions, party_stats
+    from checks.devices import parse_device
+    from checks.model import Severity
+    from checks.runner import CheckResults
+    from checks.tables import max_zs
+    from extractor.records import ValueKind
+    from reports.portfolio import CertInput, LinkInput, PartyInput, PortfolioData
+    from reports.verdict import decide
+
+    rows = [r for r in corpus.certificates() if shas is None or r.sha256 in shas]
+    known = {r.sha256 for r in rows}
+    paths = {f.sha256: f.path for f in corpus.files()}
+    if failures is None:
+        failures = [(f.path, f.failure_reason or "") for f in corpus.files()
+                    if f.status == "failed" and (shas is None or f.sha256 in shas)]
+    if cross is None:
+        cross = cross_findings(corpus, known)
+    reports = reports or {}
+    certs: list[CertInput] = []
+    zs_ratios: list[float] = []
+    digits = [0] * 10
+    for row in rows:
+        cert = corpus.certificate(row.id)
+        found = corpus.findings(row.id)
+        verdict = decide(cert, CheckResults(DEFAULT_PROFILE, [], found))
+        for _, c in cert.circuits():
+            zs = c.number("zs")
+            if zs is not None:
+                limit = max_zs(parse_device(c))
+                if limit is not None and limit.ohm > 0:
+                    zs_ratios.append(zs / limit.ohm)
+            for cell in c.cells.values():
+                if cell.value.kind is ValueKind.NUMBER:
+                    last = [ch for ch in cell.value.raw if ch.isdigit()]
+                    if last:
+                        digits[int(last[-1])] += 1
+        report = reports.get(row.sha256)
+        if report is None and reports_dir is not None:
+            guess = reports_dir / f"{report_stem(Path(paths.get(row.sha256, row.name)), row.sha256)}.html"
+            report = guess if guess.exists() else None
+        certs.append(CertInput(
+            id=row.id, name=row.name, sha256=row.sha256, source=paths.get(row.sha256, ""),
+            address=row.address, inspector=row.inspector, contractor=row.contractor,
+            date=row.inspection_date, verdict_key=verdict.key.value,
+            verdict_label=verdict.label, tone=verdict.tone, circuits=row.n_circuits,
+            tested=row.n_tested,
+            findings=tuple((f.check_id, f.severity.slug, f.message) for f in found
+                           if not f.preview),
+            report=report,
+        ))
+    by_name: dict[str, list[int]] = {}
+    for c in certs:
+        by_name.setdefault(c.name, []).append(c.id)
+    links: list[LinkInput] = []
+    for cf in cross:
+        f, m = cf.finding, cf.match
+        if m is not None and m.cert_a is not None:
+            owners = [m.cert_a]
+            other: int | None = m.cert_b
+        else:
+            owners, other = by_name.get(f.certificate, []), None
+        blocks = tuple(
+            (b.board_a, b.board_b,
+             tuple((r.field, r.circuit_a, r.raw_a, r.circuit_b, r.raw_b, r.relation)
+                   for r in b.readings))
+            for b in (m.blocks if m is not None else ())
+        )
+        for owner in owners:
+            links.append(LinkInput(
+                cert=owner, other=other, check_id=f.check_id, severity=f.severity.slug,
+                message=f.message, kind=m.kind if m is not None else None,
+                share=m.share if m is not None else None, blocks=blocks,
+                related=f.related))
+    names_in_scope = {(c.inspector or "") for c in certs}
+    workload = [
+        (who or "inspector unread", day, int(n)) for who, day, n in corpus.conn.execute(
+            "SELECT inspector, inspection_date, sum(n_tested) FROM certificates "
+            "WHERE inspection_date IS NOT NULL GROUP BY inspector_norm, inspection_date "
+            "ORDER BY sum(n_tested) DESC, inspector, inspection_date")
+        if shas is None or (who or "") in names_in_scope
+    ]
+    parties = [
+        PartyInput(role, p.party, p.last_digit_chi2, p.share_last_digit_0_or_5,
+                   p.share_zs_exactly_calculated, p.zs_compared, p.readings)
+        for role in ("contractor", "inspector") for p in party_stats(corpus, role)
+    ]
+    return PortfolioData(
+        title=title,
+        scope=("this batch" if shas is not None else "the whole corpus"),
+        store=str(corpus.path),
+        certificates=certs, failures=list(failures), links=links, parties=parties,
+        zs_ratios=zs_ratios, last_digits=digits, workload=workload,
+        workload_limit=CrossCheckOptions().max_circuits_per_day,
+        severities=[s.slug for s in sorted(Severity, reverse=True)],
+    )
+
+
+def cpu_workers() -> int:
+    return max(1, os.cpu_count() or 1)

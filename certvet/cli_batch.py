@@ -1,0 +1,193 @@
+"""`certvet batch`, `certvet portfolio` and `certvet export`: thin commands over certvet.batch
+and the corpus. Mounted by certvet.cli._mount_optional() through `register(app)`.
+
+Heavy libraries (rich, dask, pandas) are imported inside the commands.
+"""
+
+from __future__ import annotations
+
+import sys
+from enum import StrEnum
+from pathlib import Path
+from typing import Annotated, Optional
+
+import typer
+
+EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, EXIT_FAILED = 0, 1, 2, 3
+
+
+class ExportFormat(StrEnum):
+    csv = "csv"
+    parquet = "parquet"
+
+
+def _err(message: str) -> None:
+    typer.echo(f"certvet: {message}", err=True)
+
+
+def batch(
+    inputs: Annotated[list[Path], typer.Argument(help="PDF files or folders (searched recursively).")],
+    layout: Annotated[
+        list[Path],
+        typer.Option("--layout", "-l", help="Layout file or folder of layouts; repeatable. "
+                     "Each file's form is recognised automatically among them."),
+    ] = [],  # noqa: B006
+    store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")] = Path(
+        "corpus.sqlite"),
+    out: Annotated[Path, typer.Option("--out", "-o", help="Folder for reports and the portfolio.")
+                   ] = Path("certvet-out"),
+    workers: Annotated[
+        Optional[int], typer.Option("--workers", "-w", min=1,  # noqa: UP045
+                                    help="Files audited at once (default: every core).")] = None,
+    timeout: Annotated[float, typer.Option("--timeout", min=1.0,
+                                           help="Seconds allowed per file.")] = 120.0,
+    memory_mb: Annotated[int, typer.Option("--memory-mb", min=0,
+                                           help="Memory limit per file in MB (0 = none).")] = 2048,
+    retry_failed: Annotated[bool, typer.Option("--retry-failed",
+                                               help="Re-run files that failed before.")] = False,
+    scheduler: Annotated[
+        Optional[str], typer.Option("--scheduler",  # noqa: UP045
+                                    help="Run on a Dask cluster: tcp://host:port.")] = None,
+    profile: Annotated[
+        Optional[Path], typer.Option("--profile", help="Rule profile (TOML).")  # noqa: UP045
+    ] = None,
+    password: Annotated[
+        Optional[str], typer.Option("--password", help="Password for encrypted PDFs.")  # noqa: UP045
+    ] = None,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print only the totals.")] = False,
+) -> None:
+    """Audit a folder of certificates into the corpus: resumable, in parallel, never stopped by
+    one bad file; then cross-certificate checks and a portfolio page."""
+    from certvet.batch import FileOutcome, Status, run_batch
+    from certvet.corpus.store import CorpusError
+    from certvet.workers import Limits
+    from checks.profile import DEFAULT_PROFILE, ProfileError, load_profile
+    from extractor.layout import LayoutError, load_layouts
+
+    if not layout:
+        _err("give at least one --layout (a layout file or a folder of them)")
+        raise typer.Exit(EXIT_USAGE)
+    try:
+        layouts = load_layouts(layout)
+        prof = load_profile(profile) if profile else DEFAULT_PROFILE
+    except (LayoutError, ProfileError) as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_USAGE) from None
+
+    show_bar = not quiet and sys.stderr.isatty()
+    lines: list[str] = []
+    counts = {s: 0 for s in Status}
+    progress = None
+    task = None
+
+    def on_start(total: int) -> None:
+        nonlocal progress, task
+        if not show_bar:
+            return
+        from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, \
+            TimeElapsedColumn, TimeRemainingColumn
+
+        progress = Progress(TextColumn("auditing"), BarColumn(), MofNCompleteColumn(),
+                            TextColumn("[green]{task.fields[audited]} audited[/] · "
+                                       "{task.fields[skipped]} skipped · "
+                                       "[red]{task.fields[failed]} failed[/]"),
+                            TimeElapsedColumn(), TimeRemainingColumn(), transient=True)
+        progress.start()
+        task = progress.add_task("batch", total=total, audited=0, skipped=0, failed=0)
+
+    def on_event(o: FileOutcome) -> None:
+        counts[o.status] += 1
+        lines.append(o.line())
+        if progress is not None and task is not None:
+            progress.update(task, advance=1, **{s.value: n for s, n in counts.items()})
+        elif not quiet:
+            typer.echo(lines[-1])
+
+    try:
+        report = run_batch(inputs, layouts=layouts, store=store, out_dir=out, workers=workers,
+                           limits=Limits(seconds=timeout, memory_mb=memory_mb), profile=prof,
+                           password=password, on_event=on_event, retry_failed=retry_failed,
+                           scheduler=scheduler, on_start=on_start)
+    except (CorpusError, ConnectionError) as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_FAILED) from None
+    finally:
+        if progress is not None:
+            progress.stop()
+    if show_bar and not quiet:
+        for ln in lines:
+            typer.echo(ln)
+    t = report.totals
+    if not quiet:
+        for name, files in sorted(report.layouts_used.items()):
+            typer.echo(f"layout {name}: read {len(files)} file(s)")
+        if report.unrecognised:
+            typer.echo(f"{len(report.unrecognised)} file(s) no layout recognises:")
+            for o in report.unrecognised:
+                typer.echo(f"  {o.path}")
+        for cf in report.cross_findings:
+            f = cf.finding
+            typer.echo(f"CROSS    {f.certificate}: {f.check_id}: {f.message}")
+    typer.echo(f"\n{len(report.outcomes)} file(s): {t['audited']} audited, {t['skipped']} "
+               f"skipped, {t['failed']} failed; {len(report.cross_findings)} cross-certificate "
+               f"finding(s); store {store}; portfolio {report.portfolio}")
+    for o in report.failed:
+        typer.echo(f"  failed: {o.reason}")
+    typer.echo("A desk check cannot show an installation is safe; "
+               "defer to BS 7671 and licensed practice.")
+    raise typer.Exit(report.exit_code)
+
+
+def portfolio(
+    store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")] = Path(
+        "corpus.sqlite"),
+    out: Annotated[Path, typer.Option("--out", "-o", help="HTML file to write.")] = Path(
+        "portfolio.html"),
+    reports: Annotated[
+        Optional[Path], typer.Option("--reports",  # noqa: UP045
+                                     help="Folder of certificate reports to link "
+                                          "(a batch's OUT/certificates).")] = None,
+) -> None:
+    """Write one self-contained HTML page over the whole corpus."""
+    from certvet.batch import write_portfolio
+    from certvet.corpus.store import CorpusError
+
+    if not store.exists():
+        _err(f"{store}: no such corpus store")
+        raise typer.Exit(EXIT_USAGE)
+    try:
+        path = write_portfolio(store, out, reports_dir=reports)
+    except CorpusError as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_FAILED) from None
+    typer.echo(f"portfolio written: {path}")
+
+
+def export(
+    store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")] = Path(
+        "corpus.sqlite"),
+    format: Annotated[ExportFormat, typer.Option("--format", "-f", help="csv or parquet.")
+                      ] = ExportFormat.csv,
+    out: Annotated[Path, typer.Option("--out", "-o", help="Folder to write the tables to.")
+                   ] = Path("corpus-export"),
+) -> None:
+    """Export every table of the corpus as CSV or Parquet files."""
+    from certvet.corpus.store import Corpus, CorpusError
+
+    if not store.exists():
+        _err(f"{store}: no such corpus store")
+        raise typer.Exit(EXIT_USAGE)
+    try:
+        with Corpus(store) as corpus:
+            written = corpus.export(out, format.value)
+    except (CorpusError, ImportError) as exc:
+        _err(" ".join(str(exc).split()))
+        raise typer.Exit(EXIT_FAILED) from None
+    for p in written:
+        typer.echo(str(p))
+
+
+def register(app: typer.Typer) -> None:
+    app.command("batch")(batch)
+    app.command("portfolio")(portfolio)
+    app.command("export")(export)

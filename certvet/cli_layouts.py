@@ -1,0 +1,139 @@
+"""Layout commands the main CLI mounts: draft a layout from a sample, preview it, try it.
+
+    certvet draft-layout SAMPLE.pdf -o layout.toml
+    certvet preview SAMPLE.pdf --layout layout.toml -o preview.html   (or .png)
+    certvet try-layout SAMPLE.pdf --layout layout.toml
+
+Mount with ``cli_layouts.register(app)`` (or ``app.add_typer(cli_layouts.app)`` for a group).
+Heavy libraries are imported inside the commands. Exit codes: 0 done; 2 usage error (bad
+layout file); 3 the PDF could not be read or gave no draft / no circuits.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated, Optional
+
+import typer
+
+app = typer.Typer(add_completion=False, rich_markup_mode=None, no_args_is_help=True,
+                  help="Write and check layout files for new certificate forms.")
+
+EXIT_USAGE, EXIT_FAILED = 2, 3
+
+Engine = Annotated[str, typer.Option("--engine", help="words (pdfplumber), pdfium or lattice")]
+
+
+def _err(message: str) -> None:
+    typer.echo(f"certvet: {message}", err=True)
+
+
+def _layout(path: Path):
+    from extractor.layout import LayoutError, load_layout
+
+    try:
+        return load_layout(path)
+    except LayoutError as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_USAGE) from None
+
+
+def draft_layout_cmd(
+    sample: Annotated[Path, typer.Argument(help="a sample PDF of the form")],
+    out: Annotated[Optional[Path], typer.Option("-o", "--out", help="write the TOML here")] = None,  # noqa: UP045
+    name: Annotated[Optional[str], typer.Option("--name", help="form name (default: file name)")] = None,  # noqa: UP045
+    engine: Engine = "words",
+) -> None:
+    """Draft a layout file from one sample PDF and show what was matched."""
+    from extractor.draft import draft_layout
+    from extractor.errors import InputError
+
+    try:
+        result = draft_layout(sample, engine=engine, name=name)
+    except InputError as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_FAILED) from None
+    from rich.console import Console
+    from rich.table import Table
+
+    con = Console(stderr=out is None)
+    t = Table(title=f"{len(result.matched_fields)} field(s) matched "
+                    f"({'ruled' if result.ruled else 'unruled'} table, pages {result.schedule_pages})")
+    for h in ("field", "header as printed", "confidence", "note"):
+        t.add_column(h)
+    for f, label, conf, note in result.table():
+        t.add_row(f, label, f"[yellow]{conf:.2f}[/yellow]" if conf < 0.75 else f"{conf:.2f}", note)
+    con.print(t)
+    for lab in result.labels:
+        con.print(f"{lab.level} {lab.field}: {lab.example!r}")
+    for u in result.unplaced:
+        con.print(f"[yellow]not placed:[/yellow] {u}")
+    for a in result.ambiguities:
+        con.print(f"[yellow]ambiguous:[/yellow] {a}")
+    for n in result.notes:
+        con.print(f"[yellow]note:[/yellow] {n}")
+    if out is None:
+        typer.echo(result.toml)
+    else:
+        out.write_text(result.toml, encoding="utf-8")
+        con.print(f"wrote {out}")
+
+
+def preview_cmd(
+    sample: Annotated[Path, typer.Argument(help="the PDF to read")],
+    layout: Annotated[Path, typer.Option("--layout", "-l", help="layout TOML")],
+    out: Annotated[Path, typer.Option("-o", "--out", help="preview.html or preview.png")] = Path("preview.html"),
+    engine: Annotated[Optional[str], typer.Option("--engine")] = None,  # noqa: UP045
+) -> None:
+    """Draw what the layout reads over the pages (HTML with images, or PNG)."""
+    from extractor.errors import InputError
+    from extractor.preview import preview
+
+    lay = _layout(layout)
+    try:
+        res = preview(sample, lay, out, engine=engine)
+    except InputError as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_FAILED) from None
+    typer.echo(f"wrote {res.out}: {res.pages} page(s), {res.cells} value(s) drawn, "
+               f"{res.unreadable} did not parse")
+    if res.message:
+        _err(res.message)
+        raise typer.Exit(EXIT_FAILED)
+
+
+def try_layout_cmd(
+    sample: Annotated[Path, typer.Argument(help="the PDF to read")],
+    layout: Annotated[Path, typer.Option("--layout", "-l", help="layout TOML")],
+    engine: Annotated[Optional[str], typer.Option("--engine")] = None,  # noqa: UP045
+) -> None:
+    """Read the PDF with the layout; print the rows and every cell that did not parse."""
+    from rich.console import Console
+
+    from extractor.errors import InputError
+    from extractor.preview import rich_tables, try_layout
+
+    lay = _layout(layout)
+    try:
+        res = try_layout(sample, lay, engine=engine)
+    except InputError as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_FAILED) from None
+    if res.certificate is None:
+        _err(res.message)
+        raise typer.Exit(EXIT_FAILED)
+    con = Console()
+    for t in rich_tables(res, lay):
+        con.print(t)
+    if not res.unparsed:
+        con.print("every cell parsed")
+
+
+def register(target: typer.Typer) -> None:
+    """Add the three commands to the main `certvet` app."""
+    target.command("draft-layout")(draft_layout_cmd)
+    target.command("preview")(preview_cmd)
+    target.command("try-layout")(try_layout_cmd)
+
+
+register(app)

@@ -1,0 +1,152 @@
+"""The batch on an existing dask.distributed cluster (given its scheduler address).
+
+Only the per-file work is distributed: choosing the layout, extraction, the per-certificate
+checks and rendering the certificate's own reports. Each task receives the PDF's bytes (the
+workers need not see the client's files) and sends back the AuditResult plus the report files'
+bytes; the client writes the reports into its out_dir and alone writes the store, exactly as a
+local run does (certvet.batch). Yields the same `certvet.workers.Outcome`s as
+`run_isolated`, so the rest of the batch cannot tell the difference.
+
+Limits on a cluster: the time limit is enforced by the client (a task not back in time is
+cancelled and the file recorded as failed; Dask cannot stop a task already running on a
+worker, so that worker stays busy until it finishes). Memory is the cluster's own
+`memory_limit` per worker: a worker that dies on a file makes its task fail, and the file is
+recorded as failed with the reason.
+
+dask is imported here only, and this module only when a scheduler is given.
+"""
+
+from __future__ import annotations
+
+import tempfile
+import time
+from collections.abc import Iterator, Sequence
+from pathlib import Path
+from typing import Any
+
+from certvet.workers import Limits, Outcome
+
+IN_FLIGHT_PER_WORKER = 2  # tasks submitted ahead per worker: bounds the client's memory
+
+
+def remote_audit(job: Any, name: str, data: bytes) -> tuple[str, Any, dict[str, bytes]]:
+    """Runs on a worker: ("ok", AuditResult, {report file name: bytes}) or ("error", reason, {})."""
+    from dataclasses import replace
+
+    from extractor.errors import InputError
+
+    original = Path(name)
+    with tempfile.TemporaryDirectory(prefix="certvet-") as tmp:
+        pdf = Path(tmp) / original.name
+        pdf.write_bytes(data)
+        reports = Path(tmp) / "reports"
+        try:
+            result = replace(job, reports_dir=None)(pdf)
+            # the certificate names the client's file, not the worker's temporary copy
+            result.source = original
+            result.certificate.source = str(original)
+            files: dict[str, bytes] = {}
+            if job.reports_dir is not None:
+                from certvet.batch import write_certificate_reports
+
+                written = write_certificate_reports(result, reports, job.profile)
+                files = {key: p.read_bytes() for key, p in written.items()}
+                result.outputs = {key: Path(job.reports_dir) / p.name
+                                  for key, p in written.items()}
+            return "ok", result, files
+        except InputError as exc:
+            return "error", str(exc).replace(str(pdf), str(original)), {}
+        except Exception as exc:  # a bug must not lose the rest of the batch
+            return "error", f"{original}: internal error ({type(exc).__name__}: {exc})", {}
+
+
+def run_on_cluster(
+    paths: Sequence[Path],
+    job: Any,
+    scheduler: str,
+    *,
+    limits: Limits = Limits(),
+    client: Any = None,
+) -> Iterator[Outcome]:
+    """Yield one Outcome per path (completion order) from a Dask cluster; never raises for a
+    bad file. Raises ConnectionError (one line) when the scheduler cannot be reached."""
+    from distributed import Client, as_completed
+
+    own = client is None
+    if own:
+        try:
+            client = Client(scheduler, timeout="20s", set_as_default=False)
+        except (OSError, TimeoutError) as exc:
+            raise ConnectionError(f"{scheduler}: cannot reach the Dask scheduler ({exc})") \
+                from None
+    try:
+        nworkers = max(1, len(client.scheduler_info().get("workers", {})))
+        window = nworkers * IN_FLIGHT_PER_WORKER
+        pending = list(reversed(paths))
+        started: dict[Any, tuple[Path, float]] = {}
+        ac = as_completed()
+        ready: list[Any] = []
+
+        def submit_more() -> Iterator[Outcome]:
+            while pending and len(started) < window:
+                path = pending.pop()
+                try:
+                    data = path.read_bytes()
+                except OSError as exc:
+                    yield Outcome(path, None, f"{path}: cannot read file: {exc.strerror or exc}")
+                    continue
+                fut = client.submit(remote_audit, job, str(path), data, pure=False)
+                started[fut] = (path, time.monotonic())
+                ac.add(fut)
+
+        yield from submit_more()
+        while started:
+            done = _next_done(ac, ready, started, limits.seconds)
+            if done is None:  # a task ran past the time limit
+                now = time.monotonic()
+                for fut, (path, t0) in list(started.items()):
+                    if now - t0 >= limits.seconds:
+                        fut.cancel()
+                        del started[fut]
+                        yield Outcome(path, None, f"{path}: stopped after {limits.seconds:g} s "
+                                                  "(time limit per file)")
+            else:
+                path, _ = started.pop(done)
+                yield _outcome(done, path, job)
+            yield from submit_more()
+    finally:
+        if own:
+            client.close()
+
+
+def _next_done(ac: Any, ready: list[Any], started: dict[Any, tuple[Path, float]],
+               seconds: float) -> Any:
+    """The next finished future still tracked, or None when the oldest one is over time."""
+    while True:
+        while ready:
+            fut = ready.pop(0)
+            if fut in started:
+                return fut
+        if ac.has_ready():
+            ready.extend(ac.next_batch(block=False))
+            continue
+        deadline = min(t0 for _, t0 in started.values()) + seconds
+        if time.monotonic() >= deadline:
+            return None
+        time.sleep(0.05)
+
+
+def _outcome(fut: Any, path: Path, job: Any) -> Outcome:
+    try:
+        status, payload, files = fut.result()
+    except Exception as exc:  # the worker died, or the task could not run
+        reason = " ".join(f"{type(exc).__name__}: {exc}".split())
+        return Outcome(path, None, f"{path}: failed on the cluster ({reason})")
+    if status != "ok":
+        return Outcome(path, None, " ".join(str(payload).split()))
+    if files and job.reports_dir is not None:
+        out = Path(job.reports_dir)
+        out.mkdir(parents=True, exist_ok=True)
+        for key, data in files.items():
+            (out / payload.outputs[key].name).write_bytes(data)
+    return Outcome(path, payload, None)
