@@ -59,6 +59,9 @@ __all__ = ["BatchReport", "FileOutcome", "Status", "run_batch", "write_portfolio
 
 EXIT_CLEAN, EXIT_FINDINGS, EXIT_FAILED = 0, 1, 3
 REPORTS_SUBDIR = "certificates"
+# readings an inspector measures (last-digit chart); ratings, sizes and test voltages are not
+MEASURED_FIELDS = frozenset({"r1", "rn", "r2", "r1_r2", "r1_rn", "r2_only", "ir_live_live",
+                             "ir_live_earth", "zs", "rcd_time", "rcd_time_5x"})
 
 
 class Status(StrEnum):
@@ -230,7 +233,7 @@ def run_batch(
     store: Path | str,
     out_dir: Path | str | None = None,
     workers: int | None = None,
-    limits: Limits = Limits(),
+    limits: Limits | None = None,
     profile: Profile | None = None,
     engine: str | None = None,
     password: str | None = None,
@@ -294,9 +297,9 @@ def run_batch(
         if scheduler:
             from certvet.distributed import run_on_cluster
 
-            outcomes = run_on_cluster(todo, job, scheduler, limits=limits)
+            outcomes = run_on_cluster(todo, job, scheduler, limits=limits or Limits())
         else:
-            outcomes = run_isolated(todo, job, workers=workers, limits=limits)
+            outcomes = run_isolated(todo, job, workers=workers, limits=limits or Limits())
         for oc in outcomes:
             emit(_store_outcome(corpus, oc, sha_of[oc.path]))
 
@@ -436,14 +439,15 @@ def collect_portfolio(
                 limit = max_zs(parse_device(c))
                 if limit is not None and limit.ohm > 0:
                     zs_ratios.append(zs / limit.ohm)
-            for cell in c.cells.values():
-                if cell.value.kind is ValueKind.NUMBER:
+            for name, cell in c.cells.items():
+                if name in MEASURED_FIELDS and cell.value.kind is ValueKind.NUMBER:
                     last = [ch for ch in cell.value.raw if ch.isdigit()]
                     if last:
                         digits[int(last[-1])] += 1
         report = reports.get(row.sha256)
         if report is None and reports_dir is not None:
-            guess = reports_dir / f"{report_stem(Path(paths.get(row.sha256, row.name)), row.sha256)}.html"
+            stem = report_stem(Path(paths.get(row.sha256, row.name)), row.sha256)
+            guess = reports_dir / f"{stem}.html"
             report = guess if guess.exists() else None
         certs.append(CertInput(
             id=row.id, name=row.name, sha256=row.sha256, source=paths.get(row.sha256, ""),

@@ -26,14 +26,15 @@ def _err(message: str) -> None:
 
 
 def batch(
-    inputs: Annotated[list[Path], typer.Argument(help="PDF files or folders (searched recursively).")],
+    inputs: Annotated[list[Path], typer.Argument(
+        help="PDF files or folders (searched recursively).")],
     layout: Annotated[
         list[Path],
         typer.Option("--layout", "-l", help="Layout file or folder of layouts; repeatable. "
                      "Each file's form is recognised automatically among them."),
     ] = [],  # noqa: B006
-    store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")] = Path(
-        "corpus.sqlite"),
+    store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")
+                     ] = Path("corpus.sqlite"),
     out: Annotated[Path, typer.Option("--out", "-o", help="Folder for reports and the portfolio.")
                    ] = Path("certvet-out"),
     workers: Annotated[
@@ -84,8 +85,14 @@ def batch(
         nonlocal progress, task
         if not show_bar:
             return
-        from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, \
-            TimeElapsedColumn, TimeRemainingColumn
+        from rich.progress import (
+            BarColumn,
+            MofNCompleteColumn,
+            Progress,
+            TextColumn,
+            TimeElapsedColumn,
+            TimeRemainingColumn,
+        )
 
         progress = Progress(TextColumn("auditing"), BarColumn(), MofNCompleteColumn(),
                             TextColumn("[green]{task.fields[audited]} audited[/] · "
@@ -139,8 +146,8 @@ def batch(
 
 
 def portfolio(
-    store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")] = Path(
-        "corpus.sqlite"),
+    store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")
+                     ] = Path("corpus.sqlite"),
     out: Annotated[Path, typer.Option("--out", "-o", help="HTML file to write.")] = Path(
         "portfolio.html"),
     reports: Annotated[
@@ -164,8 +171,8 @@ def portfolio(
 
 
 def export(
-    store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")] = Path(
-        "corpus.sqlite"),
+    store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")
+                     ] = Path("corpus.sqlite"),
     format: Annotated[ExportFormat, typer.Option("--format", "-f", help="csv or parquet.")
                       ] = ExportFormat.csv,
     out: Annotated[Path, typer.Option("--out", "-o", help="Folder to write the tables to.")

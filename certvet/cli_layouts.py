@@ -12,12 +12,16 @@ layout file); 3 the PDF could not be read or gave no draft / no circuits.
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Annotated, Optional
+from typing import Annotated
 
 import typer
 
-app = typer.Typer(add_completion=False, rich_markup_mode=None, no_args_is_help=True,
-                  help="Write and check layout files for new certificate forms.")
+app = typer.Typer(
+    add_completion=False,
+    rich_markup_mode=None,
+    no_args_is_help=True,
+    help="Write and check layout files for new certificate forms.",
+)
 
 EXIT_USAGE, EXIT_FAILED = 2, 3
 
@@ -40,8 +44,10 @@ def _layout(path: Path):
 
 def draft_layout_cmd(
     sample: Annotated[Path, typer.Argument(help="a sample PDF of the form")],
-    out: Annotated[Optional[Path], typer.Option("-o", "--out", help="write the TOML here")] = None,  # noqa: UP045
-    name: Annotated[Optional[str], typer.Option("--name", help="form name (default: file name)")] = None,  # noqa: UP045
+    out: Annotated[Path | None, typer.Option("-o", "--out", help="write the TOML here")] = None,
+    name: Annotated[
+        str | None, typer.Option("--name", help="form name (default: file name)")
+    ] = None,
     engine: Engine = "words",
 ) -> None:
     """Draft a layout file from one sample PDF and show what was matched."""
@@ -57,8 +63,10 @@ def draft_layout_cmd(
     from rich.table import Table
 
     con = Console(stderr=out is None)
-    t = Table(title=f"{len(result.matched_fields)} field(s) matched "
-                    f"({'ruled' if result.ruled else 'unruled'} table, pages {result.schedule_pages})")
+    t = Table(
+        title=f"{len(result.matched_fields)} field(s) matched "
+        f"({'ruled' if result.ruled else 'unruled'} table, pages {result.schedule_pages})"
+    )
     for h in ("field", "header as printed", "confidence", "note"):
         t.add_column(h)
     for f, label, conf, note in result.table():
@@ -82,8 +90,10 @@ def draft_layout_cmd(
 def preview_cmd(
     sample: Annotated[Path, typer.Argument(help="the PDF to read")],
     layout: Annotated[Path, typer.Option("--layout", "-l", help="layout TOML")],
-    out: Annotated[Path, typer.Option("-o", "--out", help="preview.html or preview.png")] = Path("preview.html"),
-    engine: Annotated[Optional[str], typer.Option("--engine")] = None,  # noqa: UP045
+    out: Annotated[Path, typer.Option("-o", "--out", help="preview.html or preview.png")] = Path(
+        "preview.html"
+    ),
+    engine: Annotated[str | None, typer.Option("--engine")] = None,
 ) -> None:
     """Draw what the layout reads over the pages (HTML with images, or PNG)."""
     from extractor.errors import InputError
@@ -95,8 +105,10 @@ def preview_cmd(
     except InputError as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_FAILED) from None
-    typer.echo(f"wrote {res.out}: {res.pages} page(s), {res.cells} value(s) drawn, "
-               f"{res.unreadable} did not parse")
+    typer.echo(
+        f"wrote {res.out}: {res.pages} page(s), {res.cells} value(s) drawn, "
+        f"{res.unreadable} did not parse"
+    )
     if res.message:
         _err(res.message)
         raise typer.Exit(EXIT_FAILED)
@@ -105,7 +117,7 @@ def preview_cmd(
 def try_layout_cmd(
     sample: Annotated[Path, typer.Argument(help="the PDF to read")],
     layout: Annotated[Path, typer.Option("--layout", "-l", help="layout TOML")],
-    engine: Annotated[Optional[str], typer.Option("--engine")] = None,  # noqa: UP045
+    engine: Annotated[str | None, typer.Option("--engine")] = None,
 ) -> None:
     """Read the PDF with the layout; print the rows and every cell that did not parse."""
     from rich.console import Console

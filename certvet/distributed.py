@@ -65,13 +65,14 @@ def run_on_cluster(
     job: Any,
     scheduler: str,
     *,
-    limits: Limits = Limits(),
+    limits: Limits | None = None,
     client: Any = None,
 ) -> Iterator[Outcome]:
     """Yield one Outcome per path (completion order) from a Dask cluster; never raises for a
     bad file. Raises ConnectionError (one line) when the scheduler cannot be reached."""
     from distributed import Client, as_completed
 
+    limits = limits or Limits()
     own = client is None
     if own:
         try:

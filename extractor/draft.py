@@ -108,8 +108,11 @@ class DraftResult:
 
     def table(self) -> list[tuple[str, str, float, str]]:
         """(field, header as printed, confidence, note) for every matched column."""
-        return [(", ".join(c.fields), c.label, round(c.confidence, 2), c.note)
-                for c in self.columns if c.fields]
+        return [
+            (", ".join(c.fields), c.label, round(c.confidence, 2), c.note)
+            for c in self.columns
+            if c.fields
+        ]
 
 
 # --- geometry helpers -------------------------------------------------------------------------
@@ -138,17 +141,22 @@ class _Table:
 
 def _runs(lines: list[Line]) -> list[list[Line]]:
     """Runs of row-key lines at one x, split where the gap is much wider than the pitch."""
-    keyed = [ln for ln in lines if ln.words and ROW_KEY.match(ln.words[0].text)
-             and len(ln.words) >= 3]
+    keyed = [
+        ln for ln in lines if ln.words and ROW_KEY.match(ln.words[0].text) and len(ln.words) >= 3
+    ]
     by_x: dict[int, list[Line]] = {}
     for ln in keyed:
         by_x.setdefault(round(ln.words[0].x0 / 3), []).append(ln)
     groups = sorted(by_x.values(), key=len, reverse=True)
     if not groups:
         return []
-    best = sorted(groups[0] + [ln for g in groups[1:] for ln in g
-                               if abs(ln.words[0].x0 - groups[0][0].words[0].x0) < 4],
-                  key=lambda ln: ln.top)
+    best = sorted(
+        groups[0]
+        + [
+            ln for g in groups[1:] for ln in g if abs(ln.words[0].x0 - groups[0][0].words[0].x0) < 4
+        ],
+        key=lambda ln: ln.top,
+    )
     best = list({id(ln): ln for ln in best}.values())
     pitches = sorted(b.top - a.top for a, b in zip(best, best[1:], strict=False))
     pitch = pitches[len(pitches) // 2] if pitches else 12.0
@@ -190,8 +198,13 @@ def _find_table(page: PageContent, lines: list[Line], run: list[Line]) -> _Table
         while frontier:
             edge = frontier.pop()
             for c in cells:
-                if abs(c[3] - edge) <= 2.0 and c not in seen and c[0] >= slots[0][0] - 2 \
-                        and c[2] <= slots[-1][1] + 2 and edge - c[1] < 200:
+                if (
+                    abs(c[3] - edge) <= 2.0
+                    and c not in seen
+                    and c[0] >= slots[0][0] - 2
+                    and c[2] <= slots[-1][1] + 2
+                    and edge - c[1] < 200
+                ):
                     seen.add(c)
                     head_cells.append(c)
                     frontier.append(c[1])
@@ -204,9 +217,16 @@ def _find_table(page: PageContent, lines: list[Line], run: list[Line]) -> _Table
         # header top: the highest full-width rule in a chain just above the first row
         left, right = slots[0][0], slots[-1][1]
         width = right - left
-        hrules = sorted({round((r.top + r.bottom) / 2, 1) for r in page.rules if r.horizontal
-                         and r.x1 - r.x0 >= 0.7 * width and r.top < first.top
-                         and r.x0 <= left + 0.3 * width})
+        hrules = sorted(
+            {
+                round((r.top + r.bottom) / 2, 1)
+                for r in page.rules
+                if r.horizontal
+                and r.x1 - r.x0 >= 0.7 * width
+                and r.top < first.top
+                and r.x0 <= left + 0.3 * width
+            }
+        )
         top = first.top
         for ry in reversed(hrules):
             if top - ry <= 40:
@@ -225,20 +245,43 @@ def _find_table(page: PageContent, lines: list[Line], run: list[Line]) -> _Table
         header_bottom = first.top - 0.5
         hlines = [ln for ln in lines if header_top <= ln.top and ln.bottom <= header_bottom + 1]
         hwords = [w for ln in hlines for w in ln.words] + [
-            w for w in words if w.vertical and w.top >= header_top - 2 and w.bottom <= header_bottom + 2]
+            w
+            for w in words
+            if w.vertical and w.top >= header_top - 2 and w.bottom <= header_bottom + 2
+        ]
         cands = text_candidates(hlines, hwords)
         # header labels over no data: columns that are empty on this sample
-        extra = [c for c in cands if c.bottom >= header_bottom - 12
-                 and not any(_overlap(c.x0, c.x1, a, b) > 0 for a, b in slots)
-                 and not any(o.nwords > c.nwords and o.x0 <= c.x0 + 0.5 and o.x1 >= c.x1 - 0.5
-                             and abs(o.top - c.top) < 1 for o in cands)]
+        extra = [
+            c
+            for c in cands
+            if c.bottom >= header_bottom - 12
+            and not any(_overlap(c.x0, c.x1, a, b) > 0 for a, b in slots)
+            and not any(
+                o.nwords > c.nwords
+                and o.x0 <= c.x0 + 0.5
+                and o.x1 >= c.x1 - 0.5
+                and abs(o.top - c.top) < 1
+                for o in cands
+            )
+        ]
         for c in extra:
             if not any(abs(_cx(c) - (a + b) / 2) < 3 for a, b in slots):
                 slots.append((c.x0, c.x1))
         slots.sort()
-        return _Table(page.number, run, first.words[0].x0, slots, ruled, header_top,
-                      header_bottom, cands, hwords)
-    return _Table(page.number, run, first.words[0].x0, slots, ruled, header_top, header_bottom, cands)
+        return _Table(
+            page.number,
+            run,
+            first.words[0].x0,
+            slots,
+            ruled,
+            header_top,
+            header_bottom,
+            cands,
+            hwords,
+        )
+    return _Table(
+        page.number, run, first.words[0].x0, slots, ruled, header_top, header_bottom, cands
+    )
 
 
 def _assign_header(table: _Table) -> list[ColumnGuess]:
@@ -259,16 +302,29 @@ def _assign_header(table: _Table) -> list[ColumnGuess]:
     group_boxes: list[Cand] = []
     single: list[Cand] = []
     for c in cands:
-        hits = [i for i, (lo, hi) in enumerate(bounds)
-                if _overlap(c.x0, c.x1, lo, hi) >= min(0.35 * (hi - lo), 8.0)]
+        hits = [
+            i
+            for i, (lo, hi) in enumerate(bounds)
+            if _overlap(c.x0, c.x1, lo, hi) >= min(0.35 * (hi - lo), 8.0)
+        ]
         if len(hits) >= 2:
-            below = any(o.top >= c.bottom - 1 and _overlap(o.x0, o.x1, c.x0, c.x1) > 0
-                        for o in cands if o is not c)
+            below = any(
+                o.top >= c.bottom - 1 and _overlap(o.x0, o.x1, c.x0, c.x1) > 0
+                for o in cands
+                if o is not c
+            )
             if below and not c.ruled:
                 # labels of neighbouring columns printed close together read as one phrase;
                 # each starts where its column's data starts, which a group label does not
-                ws = [w for w in table.hwords if not w.vertical and w.x0 >= c.x0 - 0.5
-                      and w.x1 <= c.x1 + 0.5 and w.top >= c.top - 0.5 and w.bottom <= c.bottom + 0.5]
+                ws = [
+                    w
+                    for w in table.hwords
+                    if not w.vertical
+                    and w.x0 >= c.x0 - 0.5
+                    and w.x1 <= c.x1 + 0.5
+                    and w.top >= c.top - 0.5
+                    and w.bottom <= c.bottom + 0.5
+                ]
                 aligned = {i for w in ws for i, (a, _) in enumerate(slots) if abs(w.x0 - a) <= 2.5}
                 below = len(aligned) < 2
             if below:
@@ -279,8 +335,12 @@ def _assign_header(table: _Table) -> list[ColumnGuess]:
             single.append(c)
 
     def inside(c: Cand, g: Cand) -> bool:
-        return c.x0 >= g.x0 - 0.5 and c.x1 <= g.x1 + 0.5 and c.top >= g.top - 0.5 \
+        return (
+            c.x0 >= g.x0 - 0.5
+            and c.x1 <= g.x1 + 0.5
+            and c.top >= g.top - 0.5
             and c.bottom <= g.bottom + 0.5
+        )
 
     def slot_of(c: Cand) -> int | None:
         cx = _cx(c)
@@ -308,15 +368,24 @@ def _assign_header(table: _Table) -> list[ColumnGuess]:
             # lines or a whole cell) that do not overlap each other, read top to bottom
             picked: list[Cand] = []
             for c in sorted(mine, key=lambda c: (-c.nwords, -c.bottom, c.x0)):
-                if not any(_overlap(c.x0, c.x1, o.x0, o.x1) > 0.5
-                           and _overlap(c.top, c.bottom, o.top, o.bottom) > 0.5 for o in picked):
+                if not any(
+                    _overlap(c.x0, c.x1, o.x0, o.x1) > 0.5
+                    and _overlap(c.top, c.bottom, o.top, o.bottom) > 0.5
+                    for o in picked
+                ):
                     picked.append(c)
-            col.header = normalise_header(" ".join(c.text for c in sorted(picked, key=lambda c: (c.top, c.x0))))
+            col.header = normalise_header(
+                " ".join(c.text for c in sorted(picked, key=lambda c: (c.top, c.x0)))
+            )
             col._cand = picked[0]  # type: ignore[attr-defined]
             if len(picked) > 1:
                 col.use_x = True
                 col.note = "label printed in parts: x range added"
-        grp = [g for g in groups.get(col.index, []) if not mine or g.bottom <= max(m.top for m in mine) + 1]
+        grp = [
+            g
+            for g in groups.get(col.index, [])
+            if not mine or g.bottom <= max(m.top for m in mine) + 1
+        ]
         if grp:
             g = max(grp, key=lambda c: (c.nwords, c.bottom))
             col.group = normalise_header(g.text)
@@ -359,7 +428,8 @@ def _match_fields(cols: list[ColumnGuess], table: _Table, ambiguities: list[str]
             if s >= 0.5 and f not in col.fields and not col.fields:
                 ambiguities.append(
                     f"column {col.label!r} also looks like {f} (score {s:.2f}); kept "
-                    f"{cols[taken[f]].label!r} for {f}")
+                    f"{cols[taken[f]].label!r} for {f}"
+                )
             continue
         if col.fields:
             # a second field for a combined cell ("2.5/1.5" under "Live/cpc mm²")
@@ -380,7 +450,8 @@ def _match_fields(cols: list[ColumnGuess], table: _Table, ambiguities: list[str]
             col.confidence = min(col.confidence, 0.6)
             ambiguities.append(
                 f"column {col.label!r}: {f} ({s:.2f}) or {rivals[0][1]} ({rivals[0][0]:.2f}); "
-                f"chose {f}")
+                f"chose {f}"
+            )
     if "circuit_ref" not in taken:
         key_col.fields = ("circuit_ref",)
         key_col.confidence = 0.5
@@ -394,8 +465,9 @@ def _match_fields(cols: list[ColumnGuess], table: _Table, ambiguities: list[str]
 def _combined_sep(samples: Sequence[str]) -> str | None:
     filled = [s for s in samples if s.strip()]
     for sep in ("/", ";"):
-        if filled and sum(1 for s in filled if re.fullmatch(r"[\d.,]+\s*" + re.escape(sep) + r"\s*[\d.,]+", s))\
-                >= 0.6 * len(filled):
+        if filled and sum(
+            1 for s in filled if re.fullmatch(r"[\d.,]+\s*" + re.escape(sep) + r"\s*[\d.,]+", s)
+        ) >= 0.6 * len(filled):
             return sep
     return None
 
@@ -436,21 +508,28 @@ def _header_patterns(cols: list[ColumnGuess], cands: Sequence[Cand]) -> None:
         text = " ".join(cand.text.split())
         pat = "^" + _literal(text) + "$"
         rx = re.compile(pat)
-        clashes = [c for c in cands if c is not cand and rx.search(c.text)
-                   and _overlap(c.x0, c.x1, cand.x0, cand.x1) <= 0]
+        clashes = [
+            c
+            for c in cands
+            if c is not cand and rx.search(c.text) and _overlap(c.x0, c.x1, cand.x0, cand.x1) <= 0
+        ]
         col.pattern = pat
         if clashes:
             col.use_x = True
-            col.note = (col.note + "; " if col.note else "") + \
-                f"label {text!r} is printed {len(clashes) + 1} times: x range added"
+            col.note = (
+                col.note + "; " if col.note else ""
+            ) + f"label {text!r} is printed {len(clashes) + 1} times: x range added"
 
 
-def _label_patterns(lines: Sequence[Line], table: dict[str, list[str]], level: str,
-                    all_labels: dict[str, list[str]]) -> list[LabelGuess]:
+def _label_patterns(
+    lines: Sequence[Line], table: dict[str, list[str]], level: str, all_labels: dict[str, list[str]]
+) -> list[LabelGuess]:
     out: list[LabelGuess] = []
     done: set[str] = set()
     every = [(f, re.compile(p)) for f, ps in all_labels.items() for p in ps]
-    every += [(f, re.compile(p)) for f, ps in table.items() for p in ps if p not in all_labels.get(f, [])]
+    every += [
+        (f, re.compile(p)) for f, ps in table.items() for p in ps if p not in all_labels.get(f, [])
+    ]
     for ln in lines:
         text = ln.text
         found: list[tuple[int, int, str]] = []
@@ -480,7 +559,7 @@ def _label_patterns(lines: Sequence[Line], table: dict[str, list[str]], level: s
             elif f in ("ze", "ipf") or (spec is not None and spec.kind is FieldKind.NUMBER):
                 vpat = r"(?P<value>[<>]?\d+(?:[.,]\d+)?)"
             elif k + 1 < len(kept):
-                nlabel = _literal(text[kept[k + 1][0]:kept[k + 1][1]].strip())
+                nlabel = _literal(text[kept[k + 1][0] : kept[k + 1][1]].strip())
                 vpat = rf"(?P<value>.+?)\s*(?={nlabel})"
             else:
                 vpat = r"(?P<value>.+?)\s*$"
@@ -517,10 +596,20 @@ def _q(s: str) -> str:
     return '"' + s.replace("\\", "\\\\").replace('"', '\\"') + '"'
 
 
-def _toml(name: str, source: str, engine: str, recognise: list[str], pages: str,
-          ignore: list[str], end: list[str], board_start: str | None,
-          labels: list[LabelGuess], cols: list[ColumnGuess], unplaced: list[str],
-          ambiguities: list[str]) -> str:
+def _toml(
+    name: str,
+    source: str,
+    engine: str,
+    recognise: list[str],
+    pages: str,
+    ignore: list[str],
+    end: list[str],
+    board_start: str | None,
+    labels: list[LabelGuess],
+    cols: list[ColumnGuess],
+    unplaced: list[str],
+    ambiguities: list[str],
+) -> str:
     out = [
         f"# Draft layout from {Path(source).name}, written by `certvet draft-layout`.",
         "# Check every line marked CHECK, then run `certvet preview` and `certvet try-layout`.",
@@ -564,8 +653,11 @@ def _toml(name: str, source: str, engine: str, recognise: list[str], pages: str,
             continue
         out.append("")
         check = col.confidence < LOW
-        out.append(f"# printed: {col.label!r}; confidence {col.confidence:.2f}"
-                   + (f"; {col.note}" if col.note else "") + ("  CHECK" if check else ""))
+        out.append(
+            f"# printed: {col.label!r}; confidence {col.confidence:.2f}"
+            + (f"; {col.note}" if col.note else "")
+            + ("  CHECK" if check else "")
+        )
         out.append("[[columns]]")
         if len(col.fields) == 1:
             out.append(f"field = {_q(col.fields[0])}")
@@ -603,8 +695,9 @@ def read_pages(pdf: str, engine: str = "words", password: str | None = None) -> 
         doc.close()
 
 
-def draft_layout(pdf: str | Path, engine: str = "words", *, name: str | None = None,
-                 password: str | None = None) -> DraftResult:
+def draft_layout(
+    pdf: str | Path, engine: str = "words", *, name: str | None = None, password: str | None = None
+) -> DraftResult:
     """Draft a layout from one sample; DraftError says what was looked for when it cannot."""
     src = str(pdf)
     pages = read_pages(src, engine, password)
@@ -612,8 +705,10 @@ def draft_layout(pdf: str | Path, engine: str = "words", *, name: str | None = N
         raise DraftError(src, "the PDF has no pages")
     if sum(p.char_count for p in pages) == 0:
         raise DraftError(
-            src, f"no text layer: looked for characters on all {len(pages)} page(s) and found "
-            "none (a scanned image?); OCR is out of scope")
+            src,
+            f"no text layer: looked for characters on all {len(pages)} page(s) and found "
+            "none (a scanned image?); OCR is out of scope",
+        )
     tables: list[_Table] = []
     page_lines: dict[int, list[Line]] = {}
     for page in pages:
@@ -623,9 +718,11 @@ def draft_layout(pdf: str | Path, engine: str = "words", *, name: str | None = N
             tables.append(_find_table(page, lines, run))
     if not tables:
         raise DraftError(
-            src, f"no schedule table found: looked on {len(pages)} page(s) for at least "
+            src,
+            f"no schedule table found: looked on {len(pages)} page(s) for at least "
             f"{MIN_ROWS} lines starting with a circuit number (1, 2, 3… or L1, 2A) at one x "
-            "position, under a row of column headers")
+            "position, under a row of column headers",
+        )
     # the main table: the one whose header matches most fields
     scored = []
     for t in tables:
@@ -636,17 +733,22 @@ def draft_layout(pdf: str | Path, engine: str = "words", *, name: str | None = N
     n_matched, _, _, main, cols = scored[0]
     if n_matched < 3:
         raise DraftError(
-            src, f"found rows numbered like circuits on page {main.page} but only {n_matched} "
+            src,
+            f"found rows numbered like circuits on page {main.page} but only {n_matched} "
             "column header(s) matched a known term (looked for Circuit, Description, r1, R1+R2, "
             "Zs, Insulation…); the table may have no header or use words not in "
-            "extractor/header_terms.py")
+            "extractor/header_terms.py",
+        )
     ambiguities: list[str] = []
     _match_fields(cols, main, ambiguities)
     _header_patterns(cols, main.cands)
     unplaced = [c.label for c in cols if not c.fields and (c.header or c.group)]
-    unplaced += [f"column at x {c.x0:.0f}-{c.x1:.0f} with no header (samples: "
-                 f"{', '.join(s for s in c.samples[:3] if s)})"
-                 for c in cols if not c.fields and not c.header and not c.group]
+    unplaced += [
+        f"column at x {c.x0:.0f}-{c.x1:.0f} with no header (samples: "
+        f"{', '.join(s for s in c.samples[:3] if s)})"
+        for c in cols
+        if not c.fields and not c.header and not c.group
+    ]
     sched_pages = sorted({t.page for t in tables if _same_form(t, main)})
     first = sched_pages[0]
     pages_spec = "*" if first == 1 else f"{first}-"
@@ -655,22 +757,33 @@ def draft_layout(pdf: str | Path, engine: str = "words", *, name: str | None = N
     board_lines: list[Line] = []
     for t in tables:
         if t.page in sched_pages:
-            above = [ln for ln in page_lines[t.page] if ln.bottom <= t.header_top + 1
-                     and ln.top >= t.header_top - 80]
+            above = [
+                ln
+                for ln in page_lines[t.page]
+                if ln.bottom <= t.header_top + 1 and ln.top >= t.header_top - 80
+            ]
             board_lines += above
-    board_labels = _label_patterns(board_lines, BOARD_LABELS, "board",
-                                   {**BOARD_LABELS, **CERTIFICATE_LABELS})
+    board_labels = _label_patterns(
+        board_lines, BOARD_LABELS, "board", {**BOARD_LABELS, **CERTIFICATE_LABELS}
+    )
     board_start = next((b.pattern for b in board_labels if b.field == "board_ref"), None)
     if board_start:
         board_start = board_start.replace(r"(?P<value>.+?)", r"(?P<value>\S+)", 1)
         board_start = re.sub(r"\\s\*\(\?=.*\)$", "", board_start)
     table_lines = {id(ln) for t in tables for ln in t.rows}
     board_ids = {id(ln) for ln in board_lines}
-    cert_lines = [ln for p in pages[:2] for ln in page_lines[p.number] if id(ln) not in table_lines
-                  and id(ln) not in board_ids]
-    cert_labels = _label_patterns(cert_lines, {k: v for k, v in CERTIFICATE_LABELS.items()
-                                               if k not in ("ze", "ipf", "earthing")},
-                                  "certificate", {**CERTIFICATE_LABELS, **BOARD_LABELS})
+    cert_lines = [
+        ln
+        for p in pages[:2]
+        for ln in page_lines[p.number]
+        if id(ln) not in table_lines and id(ln) not in board_ids
+    ]
+    cert_labels = _label_patterns(
+        cert_lines,
+        {k: v for k, v in CERTIFICATE_LABELS.items() if k not in ("ze", "ipf", "earthing")},
+        "certificate",
+        {**CERTIFICATE_LABELS, **BOARD_LABELS},
+    )
     recognise = _recognise(page_lines[pages[0].number])
 
     # what ends a table: the first line well below the last row, when nothing else bounds it
@@ -701,10 +814,32 @@ def draft_layout(pdf: str | Path, engine: str = "words", *, name: str | None = N
     end = [tidy(e) for e in end]
     labels = board_labels + cert_labels
     result_name = name or _slug(src)
-    toml = _toml(result_name, src, engine, recognise, pages_spec, ignore, end, board_start,
-                 labels, cols, unplaced, ambiguities)
-    result = DraftResult(src, engine, toml, cols, labels, unplaced, ambiguities, sched_pages,
-                         main.ruled, sum(len(t.rows) for t in tables if t.page in sched_pages))
+    toml = _toml(
+        result_name,
+        src,
+        engine,
+        recognise,
+        pages_spec,
+        ignore,
+        end,
+        board_start,
+        labels,
+        cols,
+        unplaced,
+        ambiguities,
+    )
+    result = DraftResult(
+        src,
+        engine,
+        toml,
+        cols,
+        labels,
+        unplaced,
+        ambiguities,
+        sched_pages,
+        main.ruled,
+        sum(len(t.rows) for t in tables if t.page in sched_pages),
+    )
     _self_check(result, pages, main)
     return result
 
@@ -735,8 +870,14 @@ def _self_check(result: DraftResult, pages: list[PageContent], main: _Table) -> 
 
     for _ in range(3):
         layout = parse_layout(tomllib.loads(result.toml), "<draft>")
-        cert = assemble(iter(pages), layout, source=result.source, sha256="",
-                        engine_name=result.engine, page_count=len(pages))
+        cert = assemble(
+            iter(pages),
+            layout,
+            source=result.source,
+            sha256="",
+            engine_name=result.engine,
+            page_count=len(pages),
+        )
         missing = {p.field for p in cert.problems if p.message.startswith("column header for")}
         circuits = [c for b in cert.boards for c in b.circuits if c.page == main.page]
         by_ref = {c.ref: c for c in circuits}
@@ -748,7 +889,7 @@ def _self_check(result: DraftResult, pages: list[PageContent], main: _Table) -> 
                 wrong.add(col.index)
                 continue
             key = next(c for c in result.columns if "circuit_ref" in c.fields)
-            for k, ln in enumerate(main.rows):
+            for k in range(len(main.rows)):
                 ref = key.samples[k].strip() if k < len(key.samples) else ""
                 got = by_ref.get(ref)
                 want = " ".join(col.samples[k].split())
@@ -766,14 +907,22 @@ def _self_check(result: DraftResult, pages: list[PageContent], main: _Table) -> 
         if not wrong:
             if rows < len(main.rows):
                 result.notes.append(
-                    f"the draft reads {rows} rows on page {main.page}; the sample shows {len(main.rows)}")
+                    f"the draft reads {rows} rows on page {main.page}; "
+                    f"the sample shows {len(main.rows)}"
+                )
             return
         for col in result.columns:
             if col.index in wrong:
                 col.use_x = True
-                col.note = (col.note + "; " if col.note else "") + (
-                    "header pattern not found by the assembler" if col.fields[0] in missing
-                    else "values misread with the header alone") + ": x range added"
+                col.note = (
+                    (col.note + "; " if col.note else "")
+                    + (
+                        "header pattern not found by the assembler"
+                        if col.fields[0] in missing
+                        else "values misread with the header alone"
+                    )
+                    + ": x range added"
+                )
         result.toml = _rewrite_columns(result)
     result.notes.append("some columns still read differently from the sample after adding x ranges")
 
@@ -784,8 +933,20 @@ def _rewrite_columns(result: DraftResult) -> str:
 
     buf = StringIO()
     buf.write(head)
-    body = _toml("x", result.source, result.engine, [], "*", [], [], None, [], result.columns,
-                 result.unplaced, result.ambiguities)
-    tail = body[body.index("\n# printed: "):] if "\n# printed: " in body else ""
+    body = _toml(
+        "x",
+        result.source,
+        result.engine,
+        [],
+        "*",
+        [],
+        [],
+        None,
+        [],
+        result.columns,
+        result.unplaced,
+        result.ambiguities,
+    )
+    tail = body[body.index("\n# printed: ") :] if "\n# printed: " in body else ""
     buf.write(tail)
     return buf.getvalue()

@@ -26,8 +26,18 @@ from extractor.layout import Layout
 from extractor.records import Box, Certificate, ValueKind
 
 SCALE = 2.0
-PALETTE = [(31, 119, 180), (255, 127, 14), (44, 160, 44), (214, 39, 40), (148, 103, 189),
-           (140, 86, 75), (227, 119, 194), (127, 127, 127), (188, 189, 34), (23, 190, 207)]
+PALETTE = [
+    (31, 119, 180),
+    (255, 127, 14),
+    (44, 160, 44),
+    (214, 39, 40),
+    (148, 103, 189),
+    (140, 86, 75),
+    (227, 119, 194),
+    (127, 127, 127),
+    (188, 189, 34),
+    (23, 190, 207),
+]
 
 
 @dataclass
@@ -54,18 +64,39 @@ def _cell_boxes(cert: Certificate) -> list[tuple[str, str, Box, bool, str]]:
     out: list[tuple[str, str, Box, bool, str]] = []
     for name, cell in cert.cells.items():
         if cell.box:
-            out.append(("certificate", name, cell.box, cell.value.kind is not ValueKind.UNREADABLE,
-                        cell.value.raw))
+            out.append(
+                (
+                    "certificate",
+                    name,
+                    cell.box,
+                    cell.value.kind is not ValueKind.UNREADABLE,
+                    cell.value.raw,
+                )
+            )
     for board in cert.boards:
         for name, cell in board.cells.items():
             if cell.box:
-                out.append(("board", name, cell.box, cell.value.kind is not ValueKind.UNREADABLE,
-                            cell.value.raw))
+                out.append(
+                    (
+                        "board",
+                        name,
+                        cell.box,
+                        cell.value.kind is not ValueKind.UNREADABLE,
+                        cell.value.raw,
+                    )
+                )
         for c in board.circuits:
             for name, cell in c.cells.items():
                 if cell.box:
-                    out.append(("circuit", name, cell.box,
-                                cell.value.kind is not ValueKind.UNREADABLE, cell.value.raw))
+                    out.append(
+                        (
+                            "circuit",
+                            name,
+                            cell.box,
+                            cell.value.kind is not ValueKind.UNREADABLE,
+                            cell.value.raw,
+                        )
+                    )
     return out
 
 
@@ -97,14 +128,17 @@ def render_pages(pdf: str, cert: Certificate | None, scale: float = SCALE) -> li
             number = index + 1
             img = doc[index].render(scale=scale).to_pil().convert("RGB")
             draw = ImageDraw.Draw(img, "RGBA")
-            circuit_boxes = [b for lvl, _, b, _, _ in boxes if lvl == "circuit" and b.page == number]
+            circuit_boxes = [
+                b for lvl, _, b, _, _ in boxes if lvl == "circuit" and b.page == number
+            ]
             if circuit_boxes:
                 x0 = min(b.x0 for b in circuit_boxes) * scale
                 y0 = min(b.top for b in circuit_boxes) * scale
                 x1 = max(b.x1 for b in circuit_boxes) * scale
                 y1 = max(b.bottom for b in circuit_boxes) * scale
-                for k, (name, (a, b)) in enumerate(sorted(_column_bands(cert, number).items(),
-                                                          key=lambda kv: kv[1][0])):
+                for k, (name, (a, b)) in enumerate(
+                    sorted(_column_bands(cert, number).items(), key=lambda kv: kv[1][0])
+                ):
                     r, g, bl = PALETTE[k % len(PALETTE)]
                     draw.rectangle([a * scale, y0, b * scale, y1], fill=(r, g, bl, 28))
                     draw.text((a * scale + 1, y0 - 12 - 10 * (k % 3)), name, fill=(r, g, bl, 255))
@@ -115,8 +149,11 @@ def render_pages(pdf: str, cert: Certificate | None, scale: float = SCALE) -> li
                 colour = (0, 150, 0, 255) if ok else (220, 0, 0, 255)
                 if lvl != "circuit":
                     colour = (0, 90, 220, 255) if ok else (220, 0, 0, 255)
-                draw.rectangle([b.x0 * scale, b.top * scale, b.x1 * scale, b.bottom * scale],
-                               outline=colour, width=1 if ok else 2)
+                draw.rectangle(
+                    [b.x0 * scale, b.top * scale, b.x1 * scale, b.bottom * scale],
+                    outline=colour,
+                    width=1 if ok else 2,
+                )
             images.append(img)
     finally:
         doc.close()
@@ -137,8 +174,14 @@ def _dashed(draw: Any, box: tuple[float, float, float, float], dash: float = 6) 
         y += 2 * dash
 
 
-def preview(pdf: str | Path, layout: Layout, out: str | Path, *, engine: str | None = None,
-            scale: float = SCALE) -> PreviewResult:
+def preview(
+    pdf: str | Path,
+    layout: Layout,
+    out: str | Path,
+    *,
+    engine: str | None = None,
+    scale: float = SCALE,
+) -> PreviewResult:
     """Write an HTML (or PNG) picture of what the layout reads from the PDF."""
     pdf = str(pdf)
     out = Path(out)
@@ -161,14 +204,17 @@ def preview(pdf: str | Path, layout: Layout, out: str | Path, *, engine: str | N
     return PreviewResult(out, len(images), len(boxes), unreadable, message)
 
 
-def _html(pdf: str, layout: Layout, images: list[Any], cert: Certificate | None, message: str) -> str:
+def _html(
+    pdf: str, layout: Layout, images: list[Any], cert: Certificate | None, message: str
+) -> str:
     e = html.escape
     parts = [
         "<!doctype html><html><head><meta charset='utf-8'>",
         f"<title>preview: {e(Path(pdf).name)} with {e(layout.name)}</title>",
         "<style>body{font-family:sans-serif;margin:1em}img{max-width:100%;border:1px solid #ccc}"
         "table{border-collapse:collapse;font-size:12px}td,th{border:1px solid #ccc;padding:2px 4px}"
-        ".bad{color:#c00}.key span{display:inline-block;width:1em;height:.8em;margin:0 .3em}</style>",
+        ".bad{color:#c00}"
+        ".key span{display:inline-block;width:1em;height:.8em;margin:0 .3em}</style>",
         "</head><body>",
         f"<h1>{e(Path(pdf).name)} read with layout <code>{e(layout.name)}</code></h1>",
         "<p class='key'><span style='border:2px solid green'></span>value read"
@@ -180,8 +226,9 @@ def _html(pdf: str, layout: Layout, images: list[Any], cert: Certificate | None,
         parts.append(f"<p class='bad'><b>The layout read no circuits:</b> {e(message)}</p>")
     if cert:
         n = sum(len(b.circuits) for b in cert.boards)
-        parts.append(f"<p>{len(cert.boards)} board(s), {n} circuit(s), "
-                     f"{len(cert.problems)} problem(s).</p>")
+        parts.append(
+            f"<p>{len(cert.boards)} board(s), {n} circuit(s), {len(cert.problems)} problem(s).</p>"
+        )
     for k, img in enumerate(images, start=1):
         buf = io.BytesIO()
         img.save(buf, format="PNG")
@@ -190,12 +237,16 @@ def _html(pdf: str, layout: Layout, images: list[Any], cert: Certificate | None,
         if cert:
             probs = [p for p in cert.problems if p.box is not None and p.box.page == k]
             if probs:
-                parts.append("<table><tr><th>board</th><th>circuit</th><th>field</th><th>text</th>"
-                             "<th>problem</th></tr>")
+                parts.append(
+                    "<table><tr><th>board</th><th>circuit</th><th>field</th><th>text</th>"
+                    "<th>problem</th></tr>"
+                )
                 for p in probs:
-                    parts.append(f"<tr class='bad'><td>{e(p.board or '')}</td><td>{e(p.circuit or '')}"
-                                 f"</td><td>{e(p.field or '')}</td><td>{e(p.raw or '')}</td>"
-                                 f"<td>{e(p.message)}</td></tr>")
+                    parts.append(
+                        f"<tr class='bad'><td>{e(p.board or '')}</td><td>{e(p.circuit or '')}"
+                        f"</td><td>{e(p.field or '')}</td><td>{e(p.raw or '')}</td>"
+                        f"<td>{e(p.message)}</td></tr>"
+                    )
                 parts.append("</table>")
     parts.append("</body></html>")
     return "\n".join(parts)
@@ -227,8 +278,9 @@ def rich_tables(result: TryResult, layout: Layout) -> list[Any]:
         return out
     fields = layout.column_fields()
     for b in cert.boards:
-        t = Table(title=f"board {b.ref or '(unnamed)'}: {len(b.circuits)} circuit(s)",
-                  show_lines=False)
+        t = Table(
+            title=f"board {b.ref or '(unnamed)'}: {len(b.circuits)} circuit(s)", show_lines=False
+        )
         for f in fields:
             t.add_column(f, overflow="fold")
         for c in b.circuits:

@@ -335,7 +335,8 @@ def build_view(data: PortfolioData, page: Path) -> PortfolioView:
     for role in ("contractor", "inspector"):
         groups: dict[str, list[CertInput]] = defaultdict(list)
         for c in data.certificates:
-            groups[(c.contractor if role == "contractor" else c.inspector) or "(not read)"].append(c)
+            who = c.contractor if role == "contractor" else c.inspector
+            groups[who or "(not read)"].append(c)
         for party, members in sorted(groups.items()):
             counts = Counter(sev for c in members for _, sev, _ in c.findings)
             flagged = sum(1 for c in members if any(
@@ -390,7 +391,7 @@ def _clusters(data: PortfolioData, certs: dict[int, CertInput], page: Path
     ordered = sorted(groups.values(), key=lambda g: (-len(g), min(g)))
     for n, members in enumerate(ordered, 1):
         views = []
-        for (a, b), lk in sorted(pairs.items()):
+        for (a, _b), lk in sorted(pairs.items()):
             if a not in members:
                 continue
             fields: list[str] = []

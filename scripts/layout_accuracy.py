@@ -35,7 +35,8 @@ SAMPLES = [
     "fixtures/forms_extra/boxed-sample.pdf",
 ]
 PITFALLS = sorted(
-    str(p.relative_to(ROOT)) for p in (ROOT / "fixtures/forms_extra").glob("*.pdf")
+    str(p.relative_to(ROOT))
+    for p in (ROOT / "fixtures/forms_extra").glob("*.pdf")
     if not p.stem.endswith("-sample")
 )
 
@@ -147,8 +148,10 @@ def main(argv: list[str] | None = None) -> int:
     print(f"{'form sample':<44} {'matched':>8} {'draft':>8} {'final':>8}")
     for pdf in SAMPLES:
         r = measure_form(pdf, args.engine)
-        print(f"{pdf:<44} {r.matched:>8.1%} {r.draft.share:>8.1%} {r.final.share:>8.1%}"
-              f"   ({r.draft.correct}/{r.draft.total} cells drafted)")
+        print(
+            f"{pdf:<44} {r.matched:>8.1%} {r.draft.share:>8.1%} {r.final.share:>8.1%}"
+            f"   ({r.draft.correct}/{r.draft.total} cells drafted)"
+        )
         if args.verbose:
             for w in r.unmatched:
                 print(f"    not matched: {w}")

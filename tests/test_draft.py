@@ -14,7 +14,9 @@ from extractor.header_terms import match_header
 from extractor.layout import load_layout
 
 ROOT = Path(__file__).resolve().parents[1]
-_spec = importlib.util.spec_from_file_location("layout_accuracy", ROOT / "scripts/layout_accuracy.py")
+_spec = importlib.util.spec_from_file_location(
+    "layout_accuracy", ROOT / "scripts/layout_accuracy.py"
+)
 acc = importlib.util.module_from_spec(_spec)
 sys.modules["layout_accuracy"] = acc
 _spec.loader.exec_module(acc)  # type: ignore[union-attr]
@@ -37,14 +39,23 @@ def test_draft_is_a_loadable_layout_with_comments(tmp_path: Path) -> None:
     path.write_text(res.toml, encoding="utf-8")
     lay = load_layout(path)
     assert lay.name == "ledger-draft"
-    assert {"circuit_ref", "r1", "rn", "r2", "r1_r2", "zs", "live_csa", "cpc_csa"} <= set(lay.column_fields())
+    assert {"circuit_ref", "r1", "rn", "r2", "r1_r2", "zs", "live_csa", "cpc_csa"} <= set(
+        lay.column_fields()
+    )
     combined = next(c for c in lay.columns if len(c.fields) == 2)
     assert combined.split == "/"
     assert "# printed:" in res.toml and "confidence" in res.toml
     assert any(f == "device_type" and conf < 0.75 for f, _, conf, _ in res.table())
     assert "CHECK" in res.toml  # the low-confidence choice is marked
-    assert {lab.field for lab in res.labels} >= {"cert_number", "address", "inspection_date",
-                                                 "inspector", "instrument_serial", "ze", "ipf"}
+    assert {lab.field for lab in res.labels} >= {
+        "cert_number",
+        "address",
+        "inspection_date",
+        "inspector",
+        "instrument_serial",
+        "ze",
+        "ipf",
+    }
 
 
 def test_draft_reads_two_level_and_vertical_headers() -> None:
@@ -59,9 +70,13 @@ def test_draft_reads_two_level_and_vertical_headers() -> None:
 @pytest.mark.parametrize("pdf", acc.PITFALLS, ids=lambda p: Path(p).stem)
 def test_pitfall_read_fully_by_its_final_layout(pdf: str, request: pytest.FixtureRequest) -> None:
     if "rotated-page" in pdf:
-        request.node.add_marker(pytest.mark.xfail(
-            strict=True, reason="engines (plumber.py, pdfium.py) read text turned 90° on a "
-            "/Rotate 90 page as horizontal, so the vertical headers are not found"))
+        request.node.add_marker(
+            pytest.mark.xfail(
+                strict=True,
+                reason="engines (plumber.py, pdfium.py) read text turned 90° on a "
+                "/Rotate 90 page as horizontal, so the vertical headers are not found",
+            )
+        )
     truth = acc.load_truth(ROOT / pdf)
     sc = acc.measure_layout(pdf, ROOT / truth["layout"])
     assert sc.share == 1.0, sc.wrong
@@ -96,13 +111,27 @@ def test_no_table_says_what_was_looked_for(tmp_path: Path) -> None:
         draft_layout(p)
 
 
-@pytest.mark.parametrize(("text", "field"), [
-    ("R1 + R2 (Ω)", "r1_r2"), ("R1+R2", "r1_r2"), ("r1 (line)", "r1"), ("rn", "rn"),
-    ("Ring final circuit (Ω) | r2 (cpc)", "r2"), ("R2", "r2_only"),
-    ("Maximum permitted Zs (Ω)", "max_zs"), ("Measured Zs", "zs"), ("IΔn (mA)", "rcd_idn"),
-    ("Insulation (MΩ) | L-E", "ir_live_earth"), ("Live-Live (MΩ)", "ir_live_live"),
-    ("Test button", "rcd_button"), ("BS (EN)", "device_standard"), ("Points served", "points"),
-    ("Ω M easured Zs ()", "zs"), ("Cct No", "circuit_ref"), ("Breaking capacity (kA)", "breaking_capacity"),
-])
+@pytest.mark.parametrize(
+    ("text", "field"),
+    [
+        ("R1 + R2 (Ω)", "r1_r2"),
+        ("R1+R2", "r1_r2"),
+        ("r1 (line)", "r1"),
+        ("rn", "rn"),
+        ("Ring final circuit (Ω) | r2 (cpc)", "r2"),
+        ("R2", "r2_only"),
+        ("Maximum permitted Zs (Ω)", "max_zs"),
+        ("Measured Zs", "zs"),
+        ("IΔn (mA)", "rcd_idn"),
+        ("Insulation (MΩ) | L-E", "ir_live_earth"),
+        ("Live-Live (MΩ)", "ir_live_live"),
+        ("Test button", "rcd_button"),
+        ("BS (EN)", "device_standard"),
+        ("Points served", "points"),
+        ("Ω M easured Zs ()", "zs"),
+        ("Cct No", "circuit_ref"),
+        ("Breaking capacity (kA)", "breaking_capacity"),
+    ],
+)
 def test_header_terms(text: str, field: str) -> None:
     assert match_header(text)[0].field == field

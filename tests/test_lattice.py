@@ -19,7 +19,9 @@ RULED = [
 
 
 def _values(cert) -> dict[tuple[str, str, str], str]:
-    return {(b.ref, c.ref, f): cell.value.raw for b, c in cert.circuits() for f, cell in c.cells.items()}
+    return {
+        (b.ref, c.ref, f): cell.value.raw for b, c in cert.circuits() for f, cell in c.cells.items()
+    }
 
 
 @pytest.mark.parametrize(("pdf", "layout"), RULED, ids=lambda p: Path(p).stem)
@@ -36,7 +38,9 @@ def test_lattice_words_are_camelot_cells() -> None:
     """A two-line description is one word with its cell's box (camelot's reading)."""
     pdf = ROOT / "fixtures/forms_extra/boxed-sample.pdf"
     truth = json.loads(pdf.with_name("boxed-sample.truth.json").read_text(encoding="utf-8"))
-    two_line = next(c["description"] for c in truth["boards"][0]["circuits"] if len(c["description"]) > 22)
+    two_line = next(
+        c["description"] for c in truth["boards"][0]["circuits"] if len(c["description"]) > 22
+    )
     doc = open_document(str(pdf), "lattice")
     try:
         page = list(doc.pages())[1]

@@ -49,15 +49,23 @@ def test_wrong_layout_still_previews_with_the_reason(tmp_path: Path) -> None:
 
 
 def test_try_layout_lists_cells_that_did_not_parse() -> None:
-    res = try_layout(ROOT / "fixtures/forms_extra/odd-glyphs-ohm-ticks-ledger.pdf", load_layout(L_LEDGER))
+    res = try_layout(
+        ROOT / "fixtures/forms_extra/odd-glyphs-ohm-ticks-ledger.pdf", load_layout(L_LEDGER)
+    )
     assert res.certificate is not None
     assert [u for u in res.unparsed if u[1]] == []  # every circuit cell parsed (Ω sign, ticks)
-    bad = try_layout(LEDGER, load_layout(L_LEDGER).__class__(**{
-        **load_layout(L_LEDGER).__dict__,
-        "columns": tuple(
-            c.__class__(("points",), c.header, c.x, None) if c.field == "description" else c
-            for c in load_layout(L_LEDGER).columns),
-    }))
+    bad = try_layout(
+        LEDGER,
+        load_layout(L_LEDGER).__class__(
+            **{
+                **load_layout(L_LEDGER).__dict__,
+                "columns": tuple(
+                    c.__class__(("points",), c.header, c.x, None) if c.field == "description" else c
+                    for c in load_layout(L_LEDGER).columns
+                ),
+            }
+        ),
+    )
     assert any(field == "points" for _, _, field, _, _ in bad.unparsed)
 
 

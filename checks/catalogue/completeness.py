@@ -8,7 +8,6 @@ from dataclasses import dataclass
 
 from checks.base import CertificateCheck, CircuitCheck, option
 from checks.catalogue.rcd import has_rcd
-from checks.devices import is_ring
 from checks.model import Finding, Severity
 from checks.registry import register
 from extractor.fields import CERTIFICATE, FIELDS
@@ -103,7 +102,6 @@ _ALWAYS: tuple[tuple[str, ...], ...] = (
     ("r1_r2", "r2_only"),
     ("ir_live_earth", "ir_live_live"),
 )
-_RING: tuple[tuple[str, ...], ...] = (("r1",), ("rn",), ("r2",))
 _RCD: tuple[tuple[str, ...], ...] = (("rcd_time",),)
 
 
@@ -117,11 +115,12 @@ class RequiredValueMissing(CircuitCheck):
 
     What it checks:
     For every circuit that is not a spare way: Zs, R1+R2 (or R2), and an insulation
-    resistance (live-earth or live-live); for a ring also r1, rn and r2; for an
-    RCD-protected circuit the trip time at IΔn. Each is missing when blank or a dash; N/A
-    counts as missing unless the certificate records a limitation. Columns the form does
-    not have (no circuit on the board has that cell) are not required. Polarity has its own
-    check (polarity-not-confirmed) and LIM its own (limitation-not-recorded).
+    resistance (live-earth or live-live); for an RCD-protected circuit the trip time at
+    IΔn (a ring's r1, rn and r2 are left to ring-readings-missing). Each is missing when
+    blank or a dash; N/A counts as missing unless the certificate records a limitation.
+    Columns the form does not have (no circuit on the board has that cell) are not
+    required. Polarity has its own check (polarity-not-confirmed) and LIM its own
+    (limitation-not-recorded).
 
     Why it matters:
     A blank result is a test not done or not written down; the certificate then claims
@@ -132,7 +131,7 @@ class RequiredValueMissing(CircuitCheck):
     blank on a circuit fed from a generator or PV inverter with a note elsewhere.
 
     Failing example:
-    "Kitchen sockets ring": r1 0.52, rn 0.53, r2 blank, R1+R2 0.35, Zs 0.72.
+    "Kitchen sockets ring": r1 0.52, rn 0.53, r2 0.86, R1+R2 0.35, Zs blank.
 
     Passing example:
     "Lights": R1+R2 0.84, Zs 1.19, IR ">999", r1/rn/r2 N/A (a radial needs no end-to-end
@@ -171,8 +170,6 @@ class RequiredValueMissing(CircuitCheck):
         if is_spare(circuit):
             return None
         groups = list(_ALWAYS)
-        if is_ring(circuit):
-            groups += _RING
         if has_rcd(circuit):
             groups += _RCD
         na_ok = self.options.na_allowed_with_limitation and limitations_recorded(cert)

@@ -37,8 +37,13 @@ def _read_tables(path: str, password: str | None) -> dict[int, list[Any]]:
         warnings.simplefilter("ignore")
         try:
             tables = camelot.read_pdf(
-                path, pages="all", flavor="lattice", engine="vector", password=password,
-                layout_kwargs={"boxes_flow": None}, suppress_stdout=True,
+                path,
+                pages="all",
+                flavor="lattice",
+                engine="vector",
+                password=password,
+                layout_kwargs={"boxes_flow": None},
+                suppress_stdout=True,
             )
         except Exception as exc:  # noqa: BLE001 - camelot raises many types; one line out
             text = " ".join(str(exc).split())[:200] or type(exc).__name__
@@ -72,8 +77,12 @@ def convert_page(base: PageContent, tables: list[Any]) -> PageContent:
                     continue  # part of a spanning cell: camelot's box is not the text's
                 seen.add(box)
                 x0, top, x1, bottom = box
-                rules += [Rule(x0, top, x1, top), Rule(x0, bottom, x1, bottom),
-                          Rule(x0, top, x0, bottom), Rule(x1, top, x1, bottom)]
+                rules += [
+                    Rule(x0, top, x1, top),
+                    Rule(x0, bottom, x1, bottom),
+                    Rule(x0, top, x0, bottom),
+                    Rule(x1, top, x1, bottom),
+                ]
                 inside = [w for w in words if _inside(w, *box)]
                 text = " ".join(str(c.text or "").split())
                 if not inside or any(w.vertical for w in inside):
@@ -82,11 +91,20 @@ def convert_page(base: PageContent, tables: list[Any]) -> PageContent:
                     continue  # a glyph camelot dropped or did not map: keep pdfplumber's
                 size = max(w.size for w in inside)
                 words = [w for w in words if not any(w is i for i in inside)]
-                words.append(Word(text, x0 + INSET, top + INSET, x1 - INSET, bottom - INSET,
-                                  False, size))
+                words.append(
+                    Word(text, x0 + INSET, top + INSET, x1 - INSET, bottom - INSET, False, size)
+                )
     words.sort(key=lambda w: (w.vertical, round(w.top, 1), w.x0))
-    return PageContent(base.number, base.width, base.height, base.rotation, words, rules,
-                       base.char_count, base.unreadable_chars)
+    return PageContent(
+        base.number,
+        base.width,
+        base.height,
+        base.rotation,
+        words,
+        rules,
+        base.char_count,
+        base.unreadable_chars,
+    )
 
 
 class LatticeDocument:
