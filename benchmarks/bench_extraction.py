@@ -77,7 +77,8 @@ def engine_run(name: str) -> Callable[[Path], int]:
 def audit_run(path: Path) -> int:
     from certvet.api import audit_file, load_layouts
 
-    layouts = load_layouts([ROOT / "fixtures" / "layouts", ROOT / "fixtures" / "hostile" / "layouts" / "hostile-grid.toml"])
+    hostile = ROOT / "fixtures" / "hostile" / "layouts" / "hostile-grid.toml"
+    layouts = load_layouts([ROOT / "fixtures" / "layouts", hostile])
     result = audit_file(path, layouts=layouts, engine="pdfium")
     return result.certificate.page_count
 
@@ -124,8 +125,9 @@ def main() -> None:
     pages = sum(raw_floor(p) for p in paths)  # also warms the imports and the OS cache
     print(f"{len(paths)} files, {pages} pages")
     rates = {"raw pypdfium2 chars (floor)": timed(raw_floor, paths, args.repeat)}
-    for name in ("pdfium", "plumber"):
-        rates[f"engine {name}"] = timed(engine_run(name), paths, 1 if name == "plumber" else args.repeat)
+    for name in ("pdfium", "pdfplumber"):
+        repeat = 1 if name == "pdfplumber" else args.repeat
+        rates[f"engine {name}"] = timed(engine_run(name), paths, repeat)
     try:
         rates["whole audit (pdfium)"] = timed(audit_run, paths, 1)
     except ImportError as exc:
@@ -135,9 +137,10 @@ def main() -> None:
     for what, rate in rates.items():
         print(f"{what:32} {rate:9.1f} {1000 / rate:8.2f} {floor / rate:13.2f}")
     print(f"certvet --help start-up (median of 7): {startup() * 1000:.0f} ms")
-    for name in ("pdfium", "plumber"):
+    for name in ("pdfium", "pdfplumber"):
         peak, rss = memory(name)
-        print(f"memory, 300 pages, engine {name}: tracemalloc peak {peak:.1f} MiB, max RSS +{rss:.1f} MiB")
+        print(f"memory, 300 pages, engine {name}: "
+              f"tracemalloc peak {peak:.1f} MiB, max RSS +{rss:.1f} MiB")
     if args.profile:
         prof = cProfile.Profile()
         prof.enable()

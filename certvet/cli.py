@@ -31,8 +31,8 @@ EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, EXIT_FAILED = 0, 1, 2, 3
 
 
 class EngineChoice(StrEnum):
-    words = "words"
     pdfium = "pdfium"
+    pdfplumber = "pdfplumber"
     lattice = "lattice"
 
 

@@ -25,7 +25,7 @@ app = typer.Typer(
 
 EXIT_USAGE, EXIT_FAILED = 2, 3
 
-Engine = Annotated[str, typer.Option("--engine", help="words (pdfplumber), pdfium or lattice")]
+Engine = Annotated[str, typer.Option("--engine", help="pdfium (default), pdfplumber or lattice")]
 
 
 def _err(message: str) -> None:
@@ -48,7 +48,7 @@ def draft_layout_cmd(
     name: Annotated[
         str | None, typer.Option("--name", help="form name (default: file name)")
     ] = None,
-    engine: Engine = "words",
+    engine: Engine = "pdfium",
 ) -> None:
     """Draft a layout file from one sample PDF and show what was matched."""
     from extractor.draft import draft_layout

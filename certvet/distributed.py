@@ -85,7 +85,7 @@ def run_on_cluster(
         window = nworkers * IN_FLIGHT_PER_WORKER
         pending = list(reversed(paths))
         started: dict[Any, tuple[Path, float]] = {}
-        ac = as_completed()
+        ac = as_completed(loop=client.loop)  # our client is not the default one
         ready: list[Any] = []
 
         def submit_more() -> Iterator[Outcome]:

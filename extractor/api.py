@@ -17,13 +17,13 @@ if TYPE_CHECKING:
     from extractor.layout import Layout
     from extractor.records import Certificate
 
-ENGINE_NAMES = ("words", "plumber", "pdfium", "lattice")
+ENGINE_NAMES = ("pdfium", "pdfplumber", "lattice")
 UNREADABLE_SHARE = 0.5  # refuse a document when more than this share of its chars is unreadable
 
 
 def get_engine(name: str, path: str = "<engine>") -> Engine:
-    """The engine for a layout's `engine` value ("words" is the pdfplumber engine)."""
-    if name in ("words", "plumber"):
+    """The engine for a layout's `engine` value."""
+    if name == "pdfplumber":
         from extractor.engines.plumber import PlumberEngine
 
         return PlumberEngine()
@@ -32,7 +32,7 @@ def get_engine(name: str, path: str = "<engine>") -> Engine:
             from extractor.engines import pdfium
         except ImportError as exc:
             raise InputError(
-                path, f"engine 'pdfium' is not available ({exc}); use engine 'words'"
+                path, f"engine 'pdfium' is not available ({exc}); use engine 'pdfplumber'"
             ) from None
         return pdfium.PdfiumEngine()  # type: ignore[no-any-return]
     if name == "lattice":
@@ -42,7 +42,7 @@ def get_engine(name: str, path: str = "<engine>") -> Engine:
     raise InputError(path, f"unknown engine {name!r} (choose from {', '.join(ENGINE_NAMES)})")
 
 
-def open_document(path: str, engine: str = "words", password: str | None = None) -> OpenDocument:
+def open_document(path: str, engine: str = "pdfium", password: str | None = None) -> OpenDocument:
     return get_engine(engine, path).open(str(path), password)
 
 
@@ -69,7 +69,7 @@ def _pages_checked(path: str, doc: OpenDocument, limit: int | None = None) -> It
 
 
 def page_text(
-    path: str, *, pages: int | None = None, engine: str = "words", password: str | None = None
+    path: str, *, pages: int | None = None, engine: str = "pdfium", password: str | None = None
 ) -> list[str]:
     """Plain text of each page (lines of horizontal words top to bottom), first `pages` pages."""
     doc = open_document(path, engine, password)

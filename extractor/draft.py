@@ -685,7 +685,7 @@ def _slug(path: str) -> str:
     return s if s and s[0].isalnum() else "drafted-" + s
 
 
-def read_pages(pdf: str, engine: str = "words", password: str | None = None) -> list[PageContent]:
+def read_pages(pdf: str, engine: str = "pdfium", password: str | None = None) -> list[PageContent]:
     from extractor.api import open_document
 
     doc = open_document(str(pdf), engine, password)
@@ -696,7 +696,7 @@ def read_pages(pdf: str, engine: str = "words", password: str | None = None) -> 
 
 
 def draft_layout(
-    pdf: str | Path, engine: str = "words", *, name: str | None = None, password: str | None = None
+    pdf: str | Path, engine: str = "pdfium", *, name: str | None = None, password: str | None = None
 ) -> DraftResult:
     """Draft a layout from one sample; DraftError says what was looked for when it cannot."""
     src = str(pdf)

@@ -16,7 +16,7 @@ from typing import Any
 
 from extractor.fields import BOARD, CERTIFICATE, FIELDS
 
-ENGINES = ("words", "pdfium", "lattice")
+ENGINES = ("pdfium", "pdfplumber", "lattice")
 DEFAULT_ROW_KEY_PATTERN = r"^(?:[A-Z]{0,3}\d{1,3}[A-Z]?(?:[/.-]?(?:L?[123]|[A-Z]))?)$"
 
 
@@ -248,7 +248,7 @@ def parse_layout(data: dict[str, Any], path: str = "<layout>") -> Layout:
     name = ctx.string(form["name"], "form.name")
     if not re.fullmatch(r"[a-z0-9][a-z0-9_-]*", name):
         raise ctx.fail("form.name", f"{name!r}: use lower-case letters, digits, '-' and '_'")
-    engine = ctx.string(form.get("engine", "words"), "form.engine")
+    engine = ctx.string(form.get("engine", "pdfium"), "form.engine")
     if engine not in ENGINES:
         raise ctx.fail("form.engine", f"{engine!r} is not one of {', '.join(ENGINES)}")
 

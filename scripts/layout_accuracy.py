@@ -124,7 +124,7 @@ class FormResult:
     unmatched: list[str]
 
 
-def measure_form(pdf: str, engine: str = "words") -> FormResult:
+def measure_form(pdf: str, engine: str = "pdfium") -> FormResult:
     from extractor.draft import draft_layout
 
     truth = load_truth(ROOT / pdf)
@@ -141,7 +141,7 @@ def measure_form(pdf: str, engine: str = "words") -> FormResult:
 
 def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--engine", default="words")
+    ap.add_argument("--engine", default="pdfium")
     ap.add_argument("--pitfalls", action="store_true", help="also measure the pitfall PDFs")
     ap.add_argument("-v", "--verbose", action="store_true", help="list wrong cells")
     args = ap.parse_args(argv)

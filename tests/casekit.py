@@ -12,7 +12,7 @@ from pathlib import Path
 from typing import Any
 
 from extractor.fields import BOARD, CERTIFICATE, FIELDS
-from extractor.records import Board, Cell, Certificate, Circuit
+from extractor.records import Board, Cell, Certificate, Circuit, ExtractionProblem
 from extractor.tokens import parse_value
 
 CASES_DIR = Path(__file__).parent / "cases"
@@ -28,6 +28,7 @@ def make_certificate(
     board: dict[str, Any] | None = None,
     certificate: dict[str, Any] | None = None,
     boards: list[dict[str, Any]] | None = None,
+    problems: list[dict[str, Any]] | None = None,
 ) -> Certificate:
     """One certificate; `boards` (each with a 'circuits' list) overrides the single board."""
     cert = Certificate(source="case.pdf", sha256="0" * 64, layout="case", engine="case",
@@ -52,6 +53,8 @@ def make_certificate(
                 c.cells[name] = _cell(name, text, FIELDS)
             b.circuits.append(c)
         cert.boards.append(b)
+    for p in problems or []:
+        cert.problems.append(ExtractionProblem(**p))
     return cert
 
 
@@ -67,9 +70,11 @@ class Case:
     certificate: dict[str, Any] = field(default_factory=dict)
     options: dict[str, Any] = field(default_factory=dict)
     severity: str | None = None  # expected severity of the findings, when given
+    problems: list[dict[str, Any]] = field(default_factory=list)  # extraction problems
 
     def build(self) -> Certificate:
-        return make_certificate(self.circuits, self.board, self.certificate, self.boards)
+        return make_certificate(self.circuits, self.board, self.certificate, self.boards,
+                                self.problems)
 
 
 def load_cases() -> list[Case]:
@@ -78,7 +83,7 @@ def load_cases() -> list[Case]:
         data = tomllib.loads(path.read_text(encoding="utf-8"))
         for raw in data.get("case", []):
             unknown = set(raw) - {"name", "expect", "source", "circuits", "board", "boards",
-                                  "certificate", "options", "severity"}
+                                  "certificate", "options", "severity", "problems"}
             if unknown:
                 raise ValueError(f"{path}: case {raw.get('name')!r}: unknown keys {unknown}")
             cases.append(Case(check_id=path.stem, **raw))

@@ -36,7 +36,7 @@ GRID_COLUMNS = [
 GRID_LAYOUT = r"""
 [form]
 name = "test-grid"
-engine = "words"
+engine = "pdfplumber"
 [recognise]
 require = ["SCHEDULE OF TEST RESULTS", "Form TG-1"]
 [schedule]

@@ -10,7 +10,6 @@ import os
 import string
 
 import pytest
-
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -25,7 +24,8 @@ FUZZ = settings(max_examples=EXAMPLES, deadline=None,
 
 UNITS: list[str | None] = [None, *sorted({f.unit for f in (*FIELDS.values(), *BOARD.values(),
                                                              *CERTIFICATE.values()) if f.unit})]
-CELL_ALPHABET = string.printable + "ΩΩμ²≥≤−–—✓✔✗✘×√ ０１２３４５６７８９．，ﬁﬃ\u00a0\u2009\u200b\ufffd"
+CELL_ALPHABET = (string.printable + "ΩΩμ²≥≤−–—✓✔✗✘×√ ０１２３４５６７８９．，ﬁﬃ"
+                 "\u00a0\u2009\u200b\ufffd")
 # text shaped like readings, so the number branch is reached often
 READINGS = st.builds(
     lambda cmp, num, plus, unit: f"{cmp}{num}{plus}{unit}",
@@ -78,7 +78,7 @@ KEYS = ["form", "recognise", "schedule", "board", "certificate", "columns", "nam
         "region", "row_key", "row_key_pattern", "ignore", "end", "line_tolerance",
         "page_pattern", "pattern", "all", "zs", "ze", "cert_number", "circuit_ref", "bogus"]
 SCALARS = (
-    st.sampled_from(["", "*", "2-", "3-1", "0-", "words", "pdfium", "zs", "circuit_ref", "ze",
+    st.sampled_from(["", "*", "2-", "3-1", "0-", "pdfplumber", "pdfium", "zs", "circuit_ref", "ze",
                      "(?P<value>x)", "(", "[a-", "a{99999}", "^Zs$", "rating", "DB(?P<value>\\d)",
                      "x", "/", "hostile", "Bad Name"])
     | st.text(max_size=8) | st.integers(-5, 1000) | st.floats(allow_nan=True) | st.booleans()
@@ -94,7 +94,7 @@ TOML_LIKE = st.recursive(
 
 def _valid_layout() -> dict[str, object]:
     return {
-        "form": {"name": "fuzz", "engine": "words"},
+        "form": {"name": "fuzz", "engine": "pdfplumber"},
         "recognise": {"require": ["FUZZ"]},
         "board": {"start": "Board (?P<value>\\S+)", "fields": {"ze": "Ze (?P<value>\\S+)"}},
         "columns": [{"field": "circuit_ref", "header": "Cct"}, {"field": "zs", "x": [10, 20]}],

@@ -17,7 +17,7 @@ from extractor.layout import LayoutError, load_layout
 
 HOSTILE = Path(__file__).resolve().parents[1] / "fixtures" / "hostile"
 EXPECTED = json.loads((HOSTILE / "expected.json").read_text(encoding="utf-8"))
-ENGINES = ("words", "pdfium")
+ENGINES = ("pdfplumber", "pdfium")
 
 
 def _audit(path: Path, engine: str, password: str | None):  # -> Certificate
@@ -37,7 +37,7 @@ def _cases() -> list[object]:
     for key, spec in EXPECTED["files"].items():
         if key.startswith("_"):
             continue
-        for engine in ENGINES:
+        for engine in spec.get("only_engines", ENGINES):  # the 300-page file: one engine
             marks = [pytest.mark.slow] if spec.get("slow") else []
             out.append(pytest.param(key, engine, id=f"{key}-{engine}", marks=marks))
     return out

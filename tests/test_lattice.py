@@ -27,7 +27,7 @@ def _values(cert) -> dict[tuple[str, str, str], str]:
 @pytest.mark.parametrize(("pdf", "layout"), RULED, ids=lambda p: Path(p).stem)
 def test_lattice_records_equal_default_engine(pdf: str, layout: str) -> None:
     lay = load_layout(ROOT / layout)
-    a = extract(str(ROOT / pdf), lay, engine="words")
+    a = extract(str(ROOT / pdf), lay, engine="pdfplumber")
     b = extract(str(ROOT / pdf), lay, engine="lattice")
     assert b.engine == "lattice"
     assert _values(a) == _values(b)

@@ -44,7 +44,7 @@ def _write(tmp_path: Path, text: str) -> Path:
 
 def test_good_layout_loads(tmp_path: Path) -> None:
     lay = load_layout(_write(tmp_path, GOOD))
-    assert lay.name == "mini" and lay.engine == "words"
+    assert lay.name == "mini" and lay.engine == "pdfium"  # the default engine
     assert lay.column_fields() == ["circuit_ref", "zs", "live_csa", "cpc_csa"]
     assert lay.schedule.page_selected(2, 5) and not lay.schedule.page_selected(1, 5)
     assert lay.columns[1].x == (700.0, 730.0)

@@ -8,12 +8,16 @@ from html.parser import HTMLParser
 from pathlib import Path
 
 import pytest
+from test_batch import (  # noqa: F401 (fixture)
+    COPY_NUMBER,
+    ORIGINAL_NUMBER,
+    batch_dir,  # noqa: F401 (fixture)
+    first_run,
+)
 
 from certvet.batch import write_portfolio
 from certvet.corpus.store import Corpus
 from reports.portfolio import CertInput, LinkInput, PortfolioData, render_portfolio, risk
-from test_batch import COPY_NUMBER, ORIGINAL_NUMBER, first_run  # noqa: F401 (fixture)
-from test_batch import batch_dir  # noqa: F401 (fixture)
 
 
 class Page(HTMLParser):

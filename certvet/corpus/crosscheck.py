@@ -171,9 +171,9 @@ def check_certificate(
         ))
     prev = _previous_at_address(corpus, row)
     if prev and prev.id not in repeated and prev.cert_number != row.cert_number:
-        m = _direct_match(corpus, cert_id, prev.id, opts.match)
-        if m:
-            out.append(_repeat_finding(row, prev, m))
+        direct = _direct_match(corpus, cert_id, prev.id, opts.match)
+        if direct:
+            out.append(_repeat_finding(row, prev, direct))
     out.extend(_number_reused(corpus, row))
     return out
 

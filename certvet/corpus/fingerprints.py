@@ -19,12 +19,14 @@ Everything here is pure computation; `certvet.corpus.similarity` stores and quer
 
 from __future__ import annotations
 
+import functools
 import hashlib
 import json
 import math
 import re
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
+from typing import Any
 
 from datasketch import MinHash
 
@@ -51,10 +53,10 @@ class Reading:
 
     @property
     def value(self) -> float:
-        return self.mantissa / 10**self.decimals
+        return float(self.mantissa / 10**self.decimals)
 
     def scaled(self, decimals: int) -> int:
-        return self.mantissa * 10 ** (decimals - self.decimals)
+        return int(self.mantissa * 10 ** (decimals - self.decimals))
 
 
 def relation(a: Reading, b: Reading) -> str:
@@ -248,10 +250,20 @@ class LshParams:
                 f"seed={self.seed} grid={GRID}")
 
 
+@functools.cache
+def _permutations(num_perm: int, seed: int) -> Any:
+    # drawing the permutations is a fixed cost per MinHash: draw once per parameter set
+    template = MinHash(num_perm=num_perm, seed=seed)
+    return template.permutations, template.scheme
+
+
 def minhashes(sets: Sequence[set[bytes]], params: LshParams) -> list[MinHash]:
     if not sets:
         return []
-    return MinHash.bulk([sorted(s) for s in sets], num_perm=params.num_perm, seed=params.seed)
+    perms, scheme = _permutations(params.num_perm, params.seed)
+    out: list[MinHash] = MinHash.bulk([sorted(s) for s in sets], num_perm=params.num_perm,
+                                      seed=params.seed, permutations=perms, scheme=scheme)
+    return out
 
 
 def band_hashes(mh: MinHash, params: LshParams) -> list[int]:

@@ -138,7 +138,7 @@ class FileRow:
     failure_reason: str | None
 
 
-def _box(b: Box | None) -> list[float | int] | None:
+def _box(b: Box | None) -> list[float | int | None] | None:
     return [b.page, b.x0, b.top, b.x1, b.bottom] if b else None
 
 
@@ -168,6 +168,8 @@ class Corpus:
                 self.conn.execute("PRAGMA journal_mode=WAL")
                 self.conn.execute("PRAGMA synchronous=NORMAL")
                 self.conn.execute("PRAGMA foreign_keys=ON")
+                self.conn.execute("PRAGMA cache_size=-65536")  # 64 MiB of pages
+                self.conn.execute("PRAGMA mmap_size=268435456")
                 self._migrate()
                 self._check_params()
                 self._columns = {

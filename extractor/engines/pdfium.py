@@ -117,14 +117,14 @@ class _ObjInfo:
                  "font_handle")
 
     def __init__(self, a: float, b: float, c: float, d: float, size: float, fontname: str,
-                 descent: float, font: int | None, font_handle: Any) -> None:
+                 descent: float, font: int | None, font_handle: Any, rotation: int) -> None:
         self.a, self.b, self.c, self.d = a, b, c, d
         self.size = size
         self.fontname = fontname
         self.descent = descent
         self.font = font  # the font's address: a cache key
         self.font_handle = font_handle
-        self.direction = tuple(_displayed_direction(a, b, c, d, r) for r in (0, 90, 180, 270))
+        self.direction = _displayed_direction(a, b, c, d, rotation)
 
 
 class _Reader:
@@ -206,6 +206,8 @@ class _Reader:
         origin_args = (ctypes.byref(ox), ctypes.byref(oy))
         rect_ref = ctypes.byref(rect)
         point = tf.point
+        fast = tf.rotation == 0
+        ox0, oy1 = tf.x0, tf.y0 + tf.h
         out: list[Char] = []
         unreadable = 0
         last_key: int | None = -1
@@ -224,7 +226,7 @@ class _Reader:
                 raw.FPDFText_GetMatrix(tp, i, m)
                 size = raw.FPDFText_GetFontSize(tp, i)
                 name, descent, fkey, font = self._font(tp, i, obj)
-                info = _ObjInfo(m.a, m.b, m.c, m.d, size, name, descent, fkey, font)
+                info = _ObjInfo(m.a, m.b, m.c, m.d, size, name, descent, fkey, font, tf.rotation)
                 last_key = key
             if ch == _UNREADABLE:
                 unreadable += 1
@@ -249,15 +251,20 @@ class _Reader:
             ux, uy = a * width * fs, b * width * fs
             vx, vy = c * fs, d * fs
             bx, by = x + vx * info.descent, y + vy * info.descent
-            p0 = point(bx, by)
-            p1 = point(bx + ux, by + uy)
-            p2 = point(bx + vx, by + vy)
-            p3 = point(bx + ux + vx, by + uy + vy)
-            x0 = min(p0[0], p1[0], p2[0], p3[0])
-            x1 = max(p0[0], p1[0], p2[0], p3[0])
-            top = min(p0[1], p1[1], p2[1], p3[1])
-            bottom = max(p0[1], p1[1], p2[1], p3[1])
-            direction = info.direction[tf.rotation // 90]
+            if fast and b == 0.0 and c == 0.0 and a > 0.0 and d > 0.0:
+                # upright text on an unrotated page (nearly every char): no corner transform
+                x0, x1 = bx - ox0, bx + ux - ox0
+                top, bottom = oy1 - (by + vy), oy1 - by
+            else:
+                p0 = point(bx, by)
+                p1 = point(bx + ux, by + uy)
+                p2 = point(bx + vx, by + vy)
+                p3 = point(bx + ux + vx, by + uy + vy)
+                x0 = min(p0[0], p1[0], p2[0], p3[0])
+                x1 = max(p0[0], p1[0], p2[0], p3[0])
+                top = min(p0[1], p1[1], p2[1], p3[1])
+                bottom = max(p0[1], p1[1], p2[1], p3[1])
+            direction = info.direction
             out.append(
                 Char(
                     text=ch,
@@ -331,12 +338,15 @@ def _multiply(m: tuple[float, ...], n: tuple[float, ...]) -> tuple[float, ...]:
             e * a2 + f * c2 + e2, e * b2 + f * d2 + f2)
 
 
-def _subpaths(raw: Any, obj: Any, mat: tuple[float, ...]) -> list[tuple[str, list[tuple[float, float]]]]:
+Subpath = tuple[str, list[tuple[float, float]]]
+
+
+def _subpaths(raw: Any, obj: Any, mat: tuple[float, ...]) -> list[Subpath]:
     """Each subpath of a path object as (pdfminer-style shape string, page-space points)."""
     a, b, c, d, e, f = mat
     x = ctypes.c_float()
     y = ctypes.c_float()
-    out: list[tuple[str, list[tuple[float, float]]]] = []
+    out: list[Subpath] = []
     ops: list[str] = []
     pts: list[tuple[float, float]] = []
     for k in range(raw.FPDFPath_CountSegments(obj)):

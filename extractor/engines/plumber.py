@@ -1,4 +1,4 @@
-"""The pdfplumber engine (layout `engine = "words"`): chars → shared word splitter, lines → rules.
+"""The pdfplumber engine (layout `engine = "pdfplumber"`): chars → shared word splitter, lines → rules.
 
 pdfplumber (through pdfminer.six) already reports coordinates with the page's /Rotate applied
 and the origin at the top-left, which is our convention. pdfplumber is imported lazily so that
@@ -133,7 +133,7 @@ class PlumberDocument:
 
 
 class PlumberEngine:
-    name = "plumber"
+    name = "pdfplumber"
 
     def open(self, path: str, password: str | None = None) -> PlumberDocument:
         check_pdf_file(path)
