@@ -117,21 +117,23 @@ def audit_file(
 
     Raises InputError (one-line message naming the file) for input that cannot be audited.
     """
-    from extractor.api import extract
+    from extractor.api import extract, extract_recognised
 
     path = Path(pdf)
     if not path.exists():
         raise InputError(str(path), "file not found")
     if path.is_dir():
         raise InputError(str(path), "is a folder, not a PDF")
-    chosen = layout or choose_layout(path, layouts, password)
-    cert = extract(str(path), chosen, engine=engine, password=password)
-    if not cert.boards or not any(b.circuits for b in cert.boards):
-        raise NoLayoutMatches(
-            str(path),
-            f"layout {chosen.name!r} found no schedule of test results in this file "
-            "(no circuit rows under the column headers)",
-        )
+    if layout is not None:
+        chosen, cert = layout, extract(str(path), layout, engine=engine, password=password)
+    else:
+        if not layouts:
+            raise NoLayoutMatches(str(path), "no layout given (use --layout)")
+        found, got = extract_recognised(str(path), layouts, engine=engine, password=password)
+        if found is None or got is None:
+            names = ", ".join(lay.name for lay in layouts)
+            raise NoLayoutMatches(str(path), f"no layout recognises this form (tried: {names})")
+        chosen, cert = found, got
     results = run_checks(cert, profile or DEFAULT_PROFILE)
     result = AuditResult(path, cert, results, chosen.name)
     if out_dir is not None:

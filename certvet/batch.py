@@ -299,6 +299,8 @@ def run_batch(
 
             outcomes = run_on_cluster(todo, job, scheduler, limits=limits or Limits())
         else:
+            if todo:
+                warm_up(layouts, engine)
             outcomes = run_isolated(todo, job, workers=workers, limits=limits or Limits())
         for oc in outcomes:
             emit(_store_outcome(corpus, oc, sha_of[oc.path]))
@@ -310,6 +312,23 @@ def run_batch(
             report.portfolio = out / "portfolio.html"
             write_portfolio(report, report.portfolio)
     return report
+
+
+def warm_up(layouts: Sequence[Layout], engine: str | None) -> None:
+    """Import and compile in the parent what every child needs, once: children are forked
+    from it, so each starts with the engines imported, the catalogue loaded and the report
+    template compiled instead of paying for that per file."""
+    from checks.registry import all_checks
+    from extractor.api import get_engine
+    from reports.html import warm_up as warm_up_html
+
+    for name in {engine} if engine else {lay.engine for lay in layouts}:
+        try:
+            get_engine(name)
+        except InputError:
+            pass  # the child reports it, once per file
+    all_checks()
+    warm_up_html()
 
 
 def _store_outcome(corpus: Corpus, oc: Outcome, sha: str) -> FileOutcome:

@@ -6,6 +6,7 @@ PDF libraries are imported lazily (inside the engines), so importing this module
 from __future__ import annotations
 
 import hashlib
+import itertools
 from collections.abc import Iterator, Sequence
 from typing import TYPE_CHECKING
 
@@ -18,6 +19,7 @@ if TYPE_CHECKING:
     from extractor.records import Certificate
 
 ENGINE_NAMES = ("pdfium", "pdfplumber", "lattice")
+DEFAULT_ENGINE = "pdfium"
 UNREADABLE_SHARE = 0.5  # refuse a document when more than this share of its chars is unreadable
 
 
@@ -128,6 +130,11 @@ def extract(
         )
     finally:
         doc.close()
+    return _require_schedule(path, layout, cert)
+
+
+def _require_schedule(path: str, layout: Layout, cert: Certificate) -> Certificate:
+    """A certificate with no circuit rows must never read as "all clear": refuse it."""
     if not cert.boards:
         heads = ", ".join(c.header.pattern for c in layout.columns if c.header is not None)
         raise NoLayoutMatches(
@@ -138,3 +145,59 @@ def extract(
             path, f"layout {layout.name!r} found the schedule but no circuit rows"
         )
     return cert
+
+
+def extract_recognised(
+    path: str,
+    layouts: Sequence[Layout],
+    *,
+    engine: str | None = None,
+    password: str | None = None,
+) -> tuple[Layout | None, Certificate | None]:
+    """Recognise the form and extract it, reading the PDF once when the engines allow.
+
+    The first pages are read with `engine` (or the default engine) to recognise the form; when
+    the chosen layout uses the same engine, the same pass goes on to the remaining pages.
+    Returns (None, None) when no layout recognises the file.
+    """
+    path = str(path)
+    if not layouts:
+        return None, None
+    eng = get_engine(engine or DEFAULT_ENGINE, path)
+    doc = eng.open(path, password)
+    try:
+        pages = _pages_checked(path, doc)
+        most = max(lay.recognise.pages for lay in layouts)
+        first: list[PageContent] = []
+        for page in pages:
+            first.append(page)
+            if len(first) >= most:
+                break
+        texts = ["\n".join(ln.text for ln in group_lines(p.words, 3.0)) for p in first]
+        chosen = None
+        for lay in layouts:
+            text = "\n".join(texts[: lay.recognise.pages])
+            if all(p.search(text) for p in lay.recognise.require):
+                chosen = lay
+                break
+        if chosen is None:
+            if not any(p.char_count for p in first):
+                for _ in pages:  # reading on raises the clear "no text layer" error
+                    pass
+            return None, None
+        if (engine or chosen.engine) != eng.name:
+            cert = None  # the layout wants another engine: read again with it, below
+        else:
+            cert = assemble(
+                itertools.chain(first, pages),
+                chosen,
+                source=path,
+                sha256=file_sha256(path),
+                engine_name=eng.name,
+                page_count=doc.page_count,
+            )
+    finally:
+        doc.close()
+    if cert is None:
+        return chosen, extract(path, chosen, engine=engine, password=password)
+    return chosen, _require_schedule(path, chosen, cert)

@@ -51,10 +51,8 @@ def _typed(kind: FieldKind, v: Value) -> Any:
     return None
 
 
-def circuits_frame(cert: Certificate) -> pd.DataFrame:
-    """One row per circuit of ``cert``; see the module docstring for the columns."""
-    import pandas as pd
-
+def circuit_rows(cert: Certificate) -> list[dict[str, Any]]:
+    """One plain dict per circuit, keyed by ``frame_columns()`` (no pandas needed)."""
     rows: list[dict[str, Any]] = []
     for board, circuit in cert.circuits():
         row: dict[str, Any] = {
@@ -70,8 +68,14 @@ def circuits_frame(cert: Certificate) -> pd.DataFrame:
             row[f"{spec.name}_kind"] = v.kind.value
         row["page"] = circuit.page
         rows.append(row)
+    return rows
 
-    df = pd.DataFrame(rows, columns=frame_columns())
+
+def circuits_frame(cert: Certificate) -> pd.DataFrame:
+    """One row per circuit of ``cert``; see the module docstring for the columns."""
+    import pandas as pd
+
+    df = pd.DataFrame(circuit_rows(cert), columns=frame_columns())
     dtypes: dict[str, str] = {
         "certificate": "string",
         "board": "string",

@@ -17,7 +17,7 @@ from typing import Any
 
 from checks.model import FINDING_COLUMNS
 from checks.runner import CheckResults
-from extractor.frame import circuits_frame
+from extractor.frame import circuit_rows, frame_columns
 from extractor.records import Box, Certificate
 
 _PLAIN_NEGATIVE = re.compile(r"^-+\s*$|^-\s*\d+([.,]\d+)?\s*[a-zA-ZΩμ²/]*$")
@@ -47,12 +47,22 @@ def _stem(path: str | Path) -> Path:
 def write_records_csv(cert: Certificate, path: str | Path) -> Path:
     out = Path(path)
     out.parent.mkdir(parents=True, exist_ok=True)
-    df = circuits_frame(cert)
-    for col in df.columns:
-        if str(df[col].dtype) == "string":
-            df[col] = df[col].map(lambda v: neutralise(v) if isinstance(v, str) else v)
-    df.to_csv(out, index=False, encoding="utf-8")
+    columns = frame_columns()
+    with out.open("w", newline="", encoding="utf-8") as fh:
+        w = csv.writer(fh)
+        w.writerow(columns)
+        for row in circuit_rows(cert):
+            w.writerow([_csv_value(row.get(c)) for c in columns])
     return out
+
+
+def _csv_value(v: Any) -> Any:
+    """As pandas would write the typed frame: blanks for missing, text neutralised."""
+    if v is None or (isinstance(v, float) and v != v):
+        return ""
+    if isinstance(v, str):
+        return neutralise(v)
+    return v
 
 
 def write_findings_csv(results: CheckResults, path: str | Path) -> Path:

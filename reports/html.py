@@ -6,6 +6,7 @@ external resources). The view-model (``reports.model``) decides everything; the 
 from __future__ import annotations
 
 from datetime import UTC, datetime
+from functools import lru_cache
 from pathlib import Path
 
 from jinja2 import Environment, FileSystemLoader, StrictUndefined
@@ -18,7 +19,9 @@ from reports.model import ReportView, build_report
 TEMPLATES = Path(__file__).parent / "templates"
 
 
+@lru_cache(maxsize=1)
 def _environment() -> Environment:
+    """One environment per process: templates are compiled once, not per certificate."""
     return Environment(
         loader=FileSystemLoader(TEMPLATES),
         autoescape=True,  # every value comes from an untrusted PDF
@@ -27,6 +30,11 @@ def _environment() -> Environment:
         lstrip_blocks=True,
         keep_trailing_newline=True,
     )
+
+
+def warm_up() -> None:
+    """Compile the template now (e.g. before forking workers)."""
+    _environment().get_template("certificate.html.j2")
 
 
 def render_view(view: ReportView) -> str:

@@ -133,12 +133,12 @@ def write_json(
     profile: Profile | None = None,
     generated_at: str | None = None,
 ) -> Path:
-    """Write the JSON report for one certificate (UTF-8, indented) and return the path."""
+    """Write the JSON report for one certificate (UTF-8, compact: the C encoder is several times faster than an indented dump) and return the path."""
     out = Path(path)
     out.parent.mkdir(parents=True, exist_ok=True)
     data = report_dict(cert, results, certvet_version=certvet_version, profile=profile,
                        generated_at=generated_at)
-    out.write_text(json.dumps(data, ensure_ascii=False, indent=2) + "\n", encoding="utf-8")
+    out.write_text(json.dumps(data, ensure_ascii=False, separators=(",", ":")) + "\n", encoding="utf-8")
     return out
 
 
