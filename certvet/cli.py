@@ -79,13 +79,27 @@ def _run_batch(pdfs, layouts, profile, out_dir, engine, password, quiet) -> int:
                 done(path, result, error)
                 bar.advance(task)
 
-            summary = audit_many(pdfs, layouts=layouts, profile=profile, out_dir=out_dir,
-                                 engine=engine, password=password, on_done=step)
+            summary = audit_many(
+                pdfs,
+                layouts=layouts,
+                profile=profile,
+                out_dir=out_dir,
+                engine=engine,
+                password=password,
+                on_done=step,
+            )
         for ln in lines:
             typer.echo(ln)
     else:
-        summary = audit_many(pdfs, layouts=layouts, profile=profile, out_dir=out_dir,
-                             engine=engine, password=password, on_done=done)
+        summary = audit_many(
+            pdfs,
+            layouts=layouts,
+            profile=profile,
+            out_dir=out_dir,
+            engine=engine,
+            password=password,
+            on_done=done,
+        )
     breach = any(r.has_breach for r in summary.audited)
     if not quiet:
         typer.echo(
@@ -105,11 +119,17 @@ def _run_batch(pdfs, layouts, profile, out_dir, engine, password, quiet) -> int:
 
 @app.command()
 def audit(
-    pdfs: Annotated[list[Path], typer.Argument(help="PDF files or folders (searched recursively).")],
+    pdfs: Annotated[
+        list[Path], typer.Argument(help="PDF files or folders (searched recursively).")
+    ],
     layout: Annotated[
         list[Path],
-        typer.Option("--layout", "-l", help="Layout file or folder of layouts; repeatable. "
-                     "Each file's form is recognised automatically among them."),
+        typer.Option(
+            "--layout",
+            "-l",
+            help="Layout file or folder of layouts; repeatable. "
+            "Each file's form is recognised automatically among them.",
+        ),
     ] = [],  # noqa: B006
     out: Annotated[Path, typer.Option("--out", "-o", help="Folder for the reports.")] = Path(
         "certvet-out"
@@ -176,7 +196,9 @@ def list_checks() -> None:
 
 
 @app.command()
-def explain(check_id: Annotated[str, typer.Argument(help="A check id, see `certvet checks`.")]) -> None:
+def explain(
+    check_id: Annotated[str, typer.Argument(help="A check id, see `certvet checks`.")],
+) -> None:
     """Explain one check: what it checks, why, false alarms, examples, options, reference."""
     from checks.describe import explain_check
 
@@ -192,8 +214,11 @@ def fields() -> None:
     """List the canonical fields a layout can map columns and labels to."""
     from extractor.fields import BOARD_FIELDS, CERTIFICATE_FIELDS, CIRCUIT_FIELDS
 
-    for title, specs in (("circuit (columns)", CIRCUIT_FIELDS), ("board", BOARD_FIELDS),
-                         ("certificate", CERTIFICATE_FIELDS)):
+    for title, specs in (
+        ("circuit (columns)", CIRCUIT_FIELDS),
+        ("board", BOARD_FIELDS),
+        ("certificate", CERTIFICATE_FIELDS),
+    ):
         typer.echo(f"{title}:")
         for f in specs:
             unit = f" [{f.unit}]" if f.unit else ""

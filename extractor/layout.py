@@ -174,13 +174,17 @@ def _labels(ctx: _Ctx, data: Any, key: str, known: dict[str, Any]) -> tuple[Labe
         collect = spec.get("all", False)
         if not isinstance(collect, bool):
             raise ctx.fail(f"{k}.all", "expected true or false")
-        out.append(LabelSpec(name, ctx.regex(spec["pattern"], f"{k}.pattern", True), pages, collect))
+        out.append(
+            LabelSpec(name, ctx.regex(spec["pattern"], f"{k}.pattern", True), pages, collect)
+        )
     return tuple(out)
 
 
 def _pages(ctx: _Ctx, data: Any, key: str) -> str | tuple[int, ...]:
     if isinstance(data, list):
-        if not data or not all(isinstance(i, int) and not isinstance(i, bool) and i >= 1 for i in data):
+        if not data or not all(
+            isinstance(i, int) and not isinstance(i, bool) and i >= 1 for i in data
+        ):
             raise ctx.fail(key, "expected page numbers from 1")
         return tuple(data)
     text = ctx.string(data, key)
@@ -190,7 +194,7 @@ def _pages(ctx: _Ctx, data: Any, key: str) -> str | tuple[int, ...]:
             if int(lo) < 1 or (hi and int(hi) < int(lo)):
                 raise ctx.fail(key, f"bad page range {text!r}")
         return text
-    raise ctx.fail(key, f"expected \"*\", a range like \"2-\" or \"2-4\", or a list; got {text!r}")
+    raise ctx.fail(key, f'expected "*", a range like "2-" or "2-4", or a list; got {text!r}')
 
 
 def _columns(ctx: _Ctx, data: Any) -> tuple[ColumnSpec, ...]:
@@ -254,7 +258,9 @@ def parse_layout(data: dict[str, Any], path: str = "<layout>") -> Layout:
 
     rec = ctx.table(top["recognise"], "recognise", {"require", "pages"})
     if "require" not in rec:
-        raise ctx.fail("recognise.require", "missing: give the text patterns that identify the form")
+        raise ctx.fail(
+            "recognise.require", "missing: give the text patterns that identify the form"
+        )
     require = ctx.regex_list(rec["require"], "recognise.require")
     if not require:
         raise ctx.fail("recognise.require", "give at least one pattern")
@@ -265,24 +271,36 @@ def parse_layout(data: dict[str, Any], path: str = "<layout>") -> Layout:
     sched_raw = ctx.table(
         top.get("schedule", {}),
         "schedule",
-        {"pages", "page_pattern", "region", "row_key", "row_key_pattern", "ignore", "end",
-         "line_tolerance"},
+        {
+            "pages",
+            "page_pattern",
+            "region",
+            "row_key",
+            "row_key_pattern",
+            "ignore",
+            "end",
+            "line_tolerance",
+        },
     )
     region = None
     if "region" in sched_raw:
         x0, t, x1, b = ctx.floats(sched_raw["region"], "schedule.region", 4)
         if not (x0 < x1 and t < b):
-            raise ctx.fail("schedule.region", "expected [left, top, right, bottom] with left<right, top<bottom")
+            raise ctx.fail(
+                "schedule.region", "expected [left, top, right, bottom] with left<right, top<bottom"
+            )
         region = (x0, t, x1, b)
     row_key = ctx.string(sched_raw.get("row_key", "circuit_ref"), "schedule.row_key")
     sched = ScheduleSpec(
         pages=_pages(ctx, sched_raw.get("pages", "*"), "schedule.pages"),
         page_pattern=ctx.regex(sched_raw["page_pattern"], "schedule.page_pattern")
-        if "page_pattern" in sched_raw else None,
+        if "page_pattern" in sched_raw
+        else None,
         region=region,
         row_key=row_key,
-        row_key_pattern=ctx.regex(sched_raw.get("row_key_pattern", DEFAULT_ROW_KEY_PATTERN),
-                                  "schedule.row_key_pattern"),
+        row_key_pattern=ctx.regex(
+            sched_raw.get("row_key_pattern", DEFAULT_ROW_KEY_PATTERN), "schedule.row_key_pattern"
+        ),
         ignore=ctx.regex_list(sched_raw.get("ignore", []), "schedule.ignore"),
         end=ctx.regex_list(sched_raw.get("end", []), "schedule.end"),
         line_tolerance=ctx.number(sched_raw.get("line_tolerance", 3.0), "schedule.line_tolerance"),
@@ -292,7 +310,9 @@ def parse_layout(data: dict[str, Any], path: str = "<layout>") -> Layout:
 
     board_raw = ctx.table(top["board"], "board", {"start", "fields"})
     if "start" not in board_raw:
-        raise ctx.fail("board.start", "missing: a pattern with (?P<value>…) for the board reference")
+        raise ctx.fail(
+            "board.start", "missing: a pattern with (?P<value>…) for the board reference"
+        )
     board = BoardSpec(
         start=ctx.regex(board_raw["start"], "board.start", need_value=True),
         fields=_labels(ctx, board_raw.get("fields", {}), "board.fields", BOARD),

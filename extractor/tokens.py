@@ -90,7 +90,9 @@ def parse_value(raw: str | None, kind: FieldKind, unit: str | None = None) -> Va
             return Value(ValueKind.CONFIRMED, original)
         if s in CROSSES or low in _NO:
             return Value(ValueKind.NOT_CONFIRMED, original)
-        return Value(ValueKind.UNREADABLE, original, problem="expected a tick, cross, Yes/No or N/A")
+        return Value(
+            ValueKind.UNREADABLE, original, problem="expected a tick, cross, Yes/No or N/A"
+        )
 
     # NUMBER
     m = _NUMBER_RE.match(s.replace(" ", "") if len(s) < 24 else s)
@@ -98,12 +100,16 @@ def parse_value(raw: str | None, kind: FieldKind, unit: str | None = None) -> Va
         return Value(ValueKind.UNREADABLE, original, problem="not a number this field can hold")
     num_text = m.group("num")
     if num_text.count(",") and num_text.count("."):
-        return Value(ValueKind.UNREADABLE, original, problem="both a comma and a point in the number")
+        return Value(
+            ValueKind.UNREADABLE, original, problem="both a comma and a point in the number"
+        )
     number = float(num_text.replace(",", "."))
     written_unit = m.group("unit") or ""
     if written_unit:
         if unit is None:
-            return Value(ValueKind.UNREADABLE, original, problem=f"unexpected unit {written_unit!r}")
+            return Value(
+                ValueKind.UNREADABLE, original, problem=f"unexpected unit {written_unit!r}"
+            )
         key = _unit_key(written_unit)
         canon_key = _unit_key(unit)
         factors = _UNIT_FACTORS.get(unit, {})

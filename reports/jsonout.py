@@ -133,12 +133,18 @@ def write_json(
     profile: Profile | None = None,
     generated_at: str | None = None,
 ) -> Path:
-    """Write the JSON report for one certificate (UTF-8, compact: the C encoder is several times faster than an indented dump) and return the path."""
+    """Write the JSON report for one certificate and return the path.
+
+    UTF-8 and compact: json's C encoder is several times faster than an indented dump.
+    """
     out = Path(path)
     out.parent.mkdir(parents=True, exist_ok=True)
-    data = report_dict(cert, results, certvet_version=certvet_version, profile=profile,
-                       generated_at=generated_at)
-    out.write_text(json.dumps(data, ensure_ascii=False, separators=(",", ":")) + "\n", encoding="utf-8")
+    data = report_dict(
+        cert, results, certvet_version=certvet_version, profile=profile, generated_at=generated_at
+    )
+    out.write_text(
+        json.dumps(data, ensure_ascii=False, separators=(",", ":")) + "\n", encoding="utf-8"
+    )
     return out
 
 
@@ -148,8 +154,7 @@ def write_json(
 def _box_from(d: dict[str, Any] | None) -> Box | None:
     if d is None:
         return None
-    return Box(int(d["page"]), float(d["x0"]), float(d["top"]), float(d["x1"]),
-               float(d["bottom"]))
+    return Box(int(d["page"]), float(d["x0"]), float(d["top"]), float(d["x1"]), float(d["bottom"]))
 
 
 def _cells_from(d: dict[str, dict[str, Any]]) -> dict[str, Cell]:
@@ -171,24 +176,36 @@ def certificate_from_json(data: dict[str, Any]) -> Certificate:
     """Rebuild the Certificate recorded in a report document (boxes rounded to 0.01 pt)."""
     version = data.get("format_version")
     if version != FORMAT_VERSION:
-        raise ValueError(f"unsupported report format_version {version!r} "
-                         f"(this certvet reads {FORMAT_VERSION})")
+        raise ValueError(
+            f"unsupported report format_version {version!r} (this certvet reads {FORMAT_VERSION})"
+        )
     c = data["certificate"]
     cert = Certificate(
-        source=c["source"], sha256=c["sha256"], layout=c["layout"], engine=c["engine"],
-        page_count=c["page_count"], cells=_cells_from(c["cells"]),
+        source=c["source"],
+        sha256=c["sha256"],
+        layout=c["layout"],
+        engine=c["engine"],
+        page_count=c["page_count"],
+        cells=_cells_from(c["cells"]),
     )
     for b in data["boards"]:
         board = Board(ref=b["ref"], cells=_cells_from(b["cells"]), page=b["page"])
         for ci in b["circuits"]:
             board.circuits.append(
-                Circuit(board=board.ref, ref=ci["ref"], cells=_cells_from(ci["cells"]),
-                        page=ci["page"])
+                Circuit(
+                    board=board.ref, ref=ci["ref"], cells=_cells_from(ci["cells"]), page=ci["page"]
+                )
             )
         cert.boards.append(board)
     for p in data["problems"]:
-        cert.problems.append(ExtractionProblem(
-            message=p["message"], field=p["field"], board=p["board"], circuit=p["circuit"],
-            raw=p["raw"], box=_box_from(p["box"]),
-        ))
+        cert.problems.append(
+            ExtractionProblem(
+                message=p["message"],
+                field=p["field"],
+                board=p["board"],
+                circuit=p["circuit"],
+                raw=p["raw"],
+                box=_box_from(p["box"]),
+            )
+        )
     return cert

@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 import pytest
-
 from casekit import Case, load_cases
+
 from checks.model import Severity
 from checks.registry import all_checks, get_check
 

@@ -28,14 +28,17 @@ def test_demo_certificate(pdf: Path, layouts, tmp_path: Path) -> None:
     assert result.layout == truth["form"]
     findings = [f for f in result.results.findings if not f.preview]
     if truth["clean"]:
-        assert findings == [], [f"{f.check_id} {f.board}/{f.circuit}: {f.message}" for f in findings]
+        assert findings == [], [
+            f"{f.check_id} {f.board}/{f.circuit}: {f.message}" for f in findings
+        ]
         assert result.verdict.label == "no concerns found"
         return
     missing = []
     for fault in truth["faults"]:
         for check_id in fault["checks"]:
             hit = [
-                f for f in findings
+                f
+                for f in findings
                 if f.check_id == check_id
                 and (fault["board"] is None or f.board in (None, fault["board"]))
                 and (fault["circuit"] is None or f.circuit == fault["circuit"])

@@ -32,7 +32,7 @@ from typing import Any
 
 from extractor.engines.base import PageContent, Rule
 from extractor.engines.plumber import THIN, check_pdf_file
-from extractor.engines.words import Char, build_words, direction_from_matrix
+from extractor.engines.words import Char, build_words, char_direction
 from extractor.errors import InputError
 
 # Descent (thousandths of an em) pdfminer uses for the 14 standard fonts and their common
@@ -325,9 +325,7 @@ def _displayed_direction(a: float, b: float, c: float, d: float, rotation: int) 
     """
     for _ in range(rotation // 90):  # turn both vectors 90° clockwise (y up)
         a, b, c, d = b, -a, d, -c
-    if a * d > 0 and b * c <= 0:
-        return "ltr"
-    return direction_from_matrix(a, b, c, d)
+    return char_direction(a, b, c, d)
 
 
 def _multiply(m: tuple[float, ...], n: tuple[float, ...]) -> tuple[float, ...]:

@@ -1,8 +1,19 @@
-"""The pdfplumber engine (layout `engine = "pdfplumber"`): chars → shared word splitter, lines → rules.
+"""The pdfplumber engine (layout `engine = "pdfplumber"`): chars → shared words, lines → rules.
 
 pdfplumber (through pdfminer.six) already reports coordinates with the page's /Rotate applied
-and the origin at the top-left, which is our convention. pdfplumber is imported lazily so that
-`import extractor` stays cheap.
+and the origin at the top-left, which is our convention, and each char's matrix in displayed
+space. pdfplumber is imported lazily so that `import extractor` stays cheap.
+
+Two pdfminer faults are corrected so that this engine reads what the PDFium engine reads:
+
+* Its `upright` flag is computed without tolerance: on a /Rotate 90 page, text turned 90°
+  has cos 90° = 6e-17 in its matrix and passes as upright. The direction is decided from the
+  matrix by `words.char_direction` instead.
+* For the base-14 Symbol font (reportlab draws Ω and Δ with it) pdfminer looks widths up
+  under the Unicode names of the glyphs while it reports the chars by their Latin codes
+  ("W", "D"): every Greek letter gets zero width, and the chars after it in the same text
+  run are drawn that much too far left. `_fix_symbol_widths` adds the AFM widths under the
+  codes the font actually uses, so pdfminer places every char where PDFium does.
 """
 
 from __future__ import annotations
@@ -11,7 +22,7 @@ from collections.abc import Iterator
 from typing import Any
 
 from extractor.engines.base import PageContent, Rule
-from extractor.engines.words import Char, build_words, direction_from_matrix, is_unreadable
+from extractor.engines.words import CANONICAL, SYMBOL, Char, build_words, char_direction, is_unreadable
 from extractor.errors import InputError
 
 THIN = 2.0  # a filled rectangle thinner than this (points) is a ruling line
@@ -45,6 +56,29 @@ def _is_password_error(exc: BaseException) -> bool:
     return type(inner).__name__ in ("PDFPasswordIncorrect", "PDFEncryptionError")
 
 
+_SYMBOL_FIXED = False
+
+
+def _fix_symbol_widths() -> None:
+    """Give pdfminer the Symbol font's widths under its own codes ("W" → Omega's 768/1000 em).
+
+    Only codes missing from pdfminer's table are added (never changed); pdfminer keys them
+    by Unicode name, which a Symbol char's text (its Latin code) never matches.
+    """
+    global _SYMBOL_FIXED
+    if _SYMBOL_FIXED:
+        return
+    from pdfminer.fontmetrics import FONT_METRICS
+
+    widths = FONT_METRICS["Symbol"][1]
+    afm_name = {v: k for k, v in CANONICAL.items()}  # Ω → U+2126 as the AFM file names it
+    for code, char in SYMBOL.items():
+        width = widths.get(char, widths.get(afm_name.get(char, char)))
+        if code not in widths and width is not None:
+            widths[code] = width
+    _SYMBOL_FIXED = True
+
+
 def _rules(page: Any) -> list[Rule]:
     rules: list[Rule] = []
     for ln in page.lines:
@@ -74,7 +108,7 @@ def _chars(page: Any) -> list[Char]:
     out: list[Char] = []
     for c in page.chars:
         m = c.get("matrix") or (1, 0, 0, 1, 0, 0)
-        direction = "ltr" if c.get("upright", True) else direction_from_matrix(*m[:4])
+        direction = char_direction(*m[:4])
         out.append(
             Char(
                 text=c["text"],
@@ -84,7 +118,7 @@ def _chars(page: Any) -> list[Char]:
                 bottom=float(c["bottom"]),
                 size=float(c.get("size") or 0.0),
                 fontname=str(c.get("fontname") or ""),
-                upright=bool(c.get("upright", True)),
+                upright=direction == "ltr",
                 direction=direction,
             )
         )
@@ -139,6 +173,7 @@ class PlumberEngine:
         check_pdf_file(path)
         import pdfplumber
 
+        _fix_symbol_widths()
         try:
             pdf = pdfplumber.open(path, password=password or "")
         except Exception as exc:  # noqa: BLE001 - pdfminer raises many types; all become one line

@@ -31,16 +31,13 @@ DIRECTIONS = ("ltr", "rtl", "btt", "ttb")
 
 # The Symbol base-14 font draws Greek letters and maths signs at Latin code points (reportlab
 # uses it for "Ω" in the standard fonts); libraries that ignore its encoding report "W".
+_SYMBOL_LETTERS = (
+    "ΑΒΧΔΕΦΓΗΙϑΚΛΜΝΟΠΘΡΣΤΥςΩΞΨΖ",  # A…Z in the Symbol font's own encoding
+    "αβχδεφγηιϕκλμνοπθρστυϖωξψζ",  # a…z
+)
 SYMBOL = {
-    "W": "Ω",
-    "m": "μ",
-    "D": "Δ",
-    "a": "α",
-    "b": "β",
-    "p": "π",
-    "s": "σ",
-    "q": "θ",
-    "l": "λ",
+    **dict(zip("ABCDEFGHIJKLMNOPQRSTUVWXYZ", _SYMBOL_LETTERS[0], strict=True)),
+    **dict(zip("abcdefghijklmnopqrstuvwxyz", _SYMBOL_LETTERS[1], strict=True)),
     "³": "≥",
     "£": "≤",
     "´": "×",
@@ -50,6 +47,12 @@ SYMBOL = {
     "²": "″",
     "-": "−",
 }
+
+# One character for each sign PDF libraries decode differently: PDFium reports the Symbol
+# font's Omega and Delta as U+2126 OHM SIGN and U+2206 INCREMENT (their Adobe glyph names),
+# pdfminer as Greek letters. NFKC folds U+2126 and U+00B5 but leaves U+2206 alone, so words
+# carry the Greek letters (the layouts' header patterns are written with them too).
+CANONICAL = {"\u2126": "\u03a9", "\u2206": "\u0394", "\u00b5": "\u03bc"}
 
 
 @dataclass(frozen=True)
@@ -67,6 +70,20 @@ class Char:
     @property
     def vertical(self) -> bool:
         return self.direction in ("btt", "ttb")
+
+
+def char_direction(a: float, b: float, c: float, d: float) -> str:
+    """Reading direction of a char from its matrix in *displayed* space (y upwards).
+
+    Upright chars (a·d > 0 and b·c <= 0, pdfminer's test) read "ltr", text turned 180° too;
+    the others as `direction_from_matrix` says. Components within 1e-6 of zero count as zero:
+    a page turned by /Rotate leaves cos 90° = 6e-17 in the matrix, which would make text
+    turned 90° look upright (pdfminer's own `upright` flag has that fault).
+    """
+    a, b, c, d = (0.0 if -1e-6 < v < 1e-6 else v for v in (a, b, c, d))
+    if a * d > 0 and b * c <= 0:
+        return "ltr"
+    return direction_from_matrix(a, b, c, d)
 
 
 def direction_from_matrix(a: float, b: float, c: float, d: float) -> str:
@@ -88,9 +105,10 @@ def is_unreadable(text: str) -> bool:
 def _map_char(ch: Char) -> str:
     if "dingbats" in ch.fontname.lower():
         return ZAPF_DINGBATS.get(ch.text, ch.text)
+    text = ch.text
     if "symbol" in ch.fontname.lower():
-        return SYMBOL.get(ch.text, ch.text)
-    return ch.text
+        text = SYMBOL.get(text, text)
+    return CANONICAL.get(text, text)
 
 
 def _line_key(ch: Char) -> float:
