@@ -12,8 +12,9 @@ Two pdfminer faults are corrected so that this engine reads what the PDFium engi
 * For the base-14 Symbol font (reportlab draws Ω and Δ with it) pdfminer looks widths up
   under the Unicode names of the glyphs while it reports the chars by their Latin codes
   ("W", "D"): every Greek letter gets zero width, and the chars after it in the same text
-  run are drawn that much too far left. `_fix_symbol_widths` adds the AFM widths under the
-  codes the font actually uses, so pdfminer places every char where PDFium does.
+  run are drawn that much too far left (its ZapfDingbats table is off by 32 codes, so ticks
+  get a wrong width). `_fix_base14_widths` adds the AFM widths under the codes the fonts
+  actually use, so pdfminer places every char where PDFium does.
 """
 
 from __future__ import annotations
@@ -56,27 +57,37 @@ def _is_password_error(exc: BaseException) -> bool:
     return type(inner).__name__ in ("PDFPasswordIncorrect", "PDFEncryptionError")
 
 
-_SYMBOL_FIXED = False
+# ZapfDingbats widths (thousandths of an em, from the font's AFM file) of the codes that draw
+# ticks and crosses (`base.ZAPF_DINGBATS`); pdfminer's own table for this font is keyed
+# 32 codes off, so a tick "3" (a19, 755) gets the width of another glyph (768).
+_DINGBAT_WIDTHS = {"3": 755, "4": 846, "5": 762, "6": 761, "7": 571, "8": 677}
+_WIDTHS_FIXED = False
 
 
-def _fix_symbol_widths() -> None:
-    """Give pdfminer the Symbol font's widths under its own codes ("W" → Omega's 768/1000 em).
+def _fix_base14_widths() -> None:
+    """Give pdfminer the right widths for the Symbol and ZapfDingbats codes we decode.
 
-    Only codes missing from pdfminer's table are added (never changed); pdfminer keys them
-    by Unicode name, which a Symbol char's text (its Latin code) never matches.
+    pdfminer looks a width up first by char code (int), then by decoded text. Its Symbol
+    table is keyed by Unicode (Omega as U+2126) while Symbol chars decode to their Latin
+    codes ("W"), so every Greek letter gets zero width and the chars after it in the same
+    text run are placed too far left. Adding entries under the int codes (which pdfminer's
+    tables never use) fixes the advance, so pdfminer places every char where PDFium does.
     """
-    global _SYMBOL_FIXED
-    if _SYMBOL_FIXED:
+    global _WIDTHS_FIXED
+    if _WIDTHS_FIXED:
         return
     from pdfminer.fontmetrics import FONT_METRICS
 
-    widths = FONT_METRICS["Symbol"][1]
+    symbol = FONT_METRICS["Symbol"][1]
     afm_name = {v: k for k, v in CANONICAL.items()}  # Ω → U+2126 as the AFM file names it
     for code, char in SYMBOL.items():
-        width = widths.get(char, widths.get(afm_name.get(char, char)))
-        if code not in widths and width is not None:
-            widths[code] = width
-    _SYMBOL_FIXED = True
+        width = symbol.get(char, symbol.get(afm_name.get(char, char)))
+        if width is not None:
+            symbol.setdefault(ord(code), width)  # type: ignore[call-overload]
+    dingbats = FONT_METRICS["ZapfDingbats"][1]
+    for code, width in _DINGBAT_WIDTHS.items():
+        dingbats.setdefault(ord(code), width)  # type: ignore[call-overload]
+    _WIDTHS_FIXED = True
 
 
 def _rules(page: Any) -> list[Rule]:
@@ -173,7 +184,7 @@ class PlumberEngine:
         check_pdf_file(path)
         import pdfplumber
 
-        _fix_symbol_widths()
+        _fix_base14_widths()
         try:
             pdf = pdfplumber.open(path, password=password or "")
         except Exception as exc:  # noqa: BLE001 - pdfminer raises many types; all become one line
