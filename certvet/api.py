@@ -14,6 +14,7 @@ import hashlib
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from certvet import __version__
 from checks.profile import DEFAULT_PROFILE, Profile, load_profile
@@ -21,6 +22,9 @@ from checks.runner import CheckResults, run_checks
 from extractor.errors import InputError, NoLayoutMatches
 from extractor.layout import Layout, LayoutError, load_layout, load_layouts
 from extractor.records import Certificate
+
+if TYPE_CHECKING:  # reports.verdict is imported lazily, in AuditResult.verdict
+    from reports.verdict import Verdict
 
 __all__ = [
     "AuditResult",
@@ -52,7 +56,7 @@ class AuditResult:
     outputs: dict[str, Path] = field(default_factory=dict)
 
     @property
-    def verdict(self):  # -> reports.verdict.Verdict (imported lazily)
+    def verdict(self) -> Verdict:
         from reports.verdict import verdict_for
 
         return verdict_for(self.certificate, self.results)

@@ -479,8 +479,8 @@ def collect_portfolio(
             report=report,
         ))
     by_name: dict[str, list[int]] = {}
-    for c in certs:
-        by_name.setdefault(c.name, []).append(c.id)
+    for ci in certs:
+        by_name.setdefault(ci.name, []).append(ci.id)
     links: list[LinkInput] = []
     for cf in cross:
         f, m = cf.finding, cf.match

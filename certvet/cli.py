@@ -10,9 +10,14 @@ from __future__ import annotations
 import sys
 from enum import StrEnum
 from pathlib import Path
-from typing import Annotated, Optional
+from typing import TYPE_CHECKING, Annotated, Optional
 
 import typer
+
+if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
+    from certvet.api import AuditResult
+    from checks.profile import Profile
+    from extractor.layout import Layout
 
 app = typer.Typer(
     name="certvet",
@@ -40,7 +45,9 @@ def _err(message: str) -> None:
     typer.echo(f"certvet: {message}", err=True)
 
 
-def _load_inputs(layout_paths: list[Path], profile_path: Path | None):
+def _load_inputs(
+    layout_paths: list[Path], profile_path: Path | None
+) -> tuple[list[Layout], Profile]:
     from checks.profile import DEFAULT_PROFILE, ProfileError, load_profile
     from extractor.layout import LayoutError, load_layouts
 
@@ -53,16 +60,25 @@ def _load_inputs(layout_paths: list[Path], profile_path: Path | None):
     return layouts, profile
 
 
-def _run_batch(pdfs, layouts, profile, out_dir, engine, password, quiet) -> int:
+def _run_batch(
+    pdfs: list[Path],
+    layouts: list[Layout],
+    profile: Profile,
+    out_dir: Path,
+    engine: str | None,
+    password: str | None,
+    quiet: bool,
+) -> int:
     from certvet.api import audit_many
 
     show_bar = len(pdfs) > 3 and not quiet and sys.stderr.isatty()
     lines: list[str] = []
 
-    def done(path, result, error) -> None:
+    def done(path: Path, result: AuditResult | None, error: str | None) -> None:
         if error:
             lines.append(f"FAILED   {error}")
         else:
+            assert result is not None  # audit_many gives a result or an error
             v = result.verdict
             n = len([f for f in result.results.findings if not f.preview])
             lines.append(f"{v.label.upper():<22} {path}  ({n} findings, layout {result.layout})")
@@ -75,7 +91,7 @@ def _run_batch(pdfs, layouts, profile, out_dir, engine, password, quiet) -> int:
         with Progress(transient=True) as bar:
             task = bar.add_task("auditing", total=len(pdfs))
 
-            def step(path, result, error) -> None:
+            def step(path: Path, result: AuditResult | None, error: str | None) -> None:
                 done(path, result, error)
                 bar.advance(task)
 

@@ -9,7 +9,7 @@ from __future__ import annotations
 import sys
 from enum import StrEnum
 from pathlib import Path
-from typing import Annotated, Optional
+from typing import Annotated, Any, Optional
 
 import typer
 
@@ -106,7 +106,8 @@ def batch(
         counts[o.status] += 1
         lines.append(o.line())
         if progress is not None and task is not None:
-            progress.update(task, advance=1, **{s.value: n for s, n in counts.items()})
+            fields: dict[str, Any] = {s.value: n for s, n in counts.items()}
+            progress.update(task, advance=1, **fields)
         elif not quiet:
             typer.echo(lines[-1])
 

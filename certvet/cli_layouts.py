@@ -12,9 +12,12 @@ layout file); 3 the PDF could not be read or gave no draft / no circuits.
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Annotated
+from typing import TYPE_CHECKING, Annotated
 
 import typer
+
+if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
+    from extractor.layout import Layout
 
 app = typer.Typer(
     add_completion=False,
@@ -32,7 +35,7 @@ def _err(message: str) -> None:
     typer.echo(f"certvet: {message}", err=True)
 
 
-def _layout(path: Path):
+def _layout(path: Path) -> Layout:
     from extractor.layout import LayoutError, load_layout
 
     try:

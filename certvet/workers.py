@@ -16,7 +16,7 @@ from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
 from multiprocessing.connection import Connection, wait
 from pathlib import Path
-from typing import Any
+from typing import Any, cast
 
 from extractor.errors import InputError
 
@@ -81,9 +81,10 @@ def run_isolated(
             running[recv] = (path, proc, time.monotonic())
         now = time.monotonic()
         deadline = min(start + limits.seconds for _, _, start in running.values())
-        ready = wait(list(running), timeout=max(0.0, deadline - now))
+        # wait() is typed for any waitable; we only give it our Connections
+        ready = cast(list[Connection], wait(list(running), timeout=max(0.0, deadline - now)))
         for conn in ready:
-            path, proc, _ = running.pop(conn)  # type: ignore[call-overload]
+            path, proc, _ = running.pop(conn)
             try:
                 status, payload = conn.recv()
             except (EOFError, OSError):

@@ -18,6 +18,7 @@ Per schedule page:
 
 from __future__ import annotations
 
+from bisect import bisect_left, bisect_right
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 
@@ -258,11 +259,19 @@ def _inside(w: Word, box: tuple[float, float, float, float]) -> bool:
 def grid_candidates(
     words: Sequence[Word], cells: Sequence[tuple[float, float, float, float]], tolerance: float
 ) -> list[Cand]:
+    # words sorted once by centre x: each cell takes its x-range by bisection, then its
+    # y-range (same test as `_inside`), keeping the words' own order
+    order = sorted(range(len(words)), key=lambda i: _centre_x(words[i]))
+    cxs = [_centre_x(words[i]) for i in order]
+    cys = [_centre_y(w) for w in words]
     out = []
     for box in cells:
-        inside = [w for w in words if _inside(w, box)]
-        if inside:
-            out.append(_cand(inside, True, box, tolerance))
+        x0, top, x1, bottom = box
+        hit = [i for i in order[bisect_left(cxs, x0) : bisect_right(cxs, x1)]
+               if top <= cys[i] <= bottom]
+        if hit:
+            hit.sort()
+            out.append(_cand([words[i] for i in hit], True, box, tolerance))
     return out
 
 

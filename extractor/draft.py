@@ -264,9 +264,9 @@ def _find_table(page: PageContent, lines: list[Line], run: list[Line]) -> _Table
                 for o in cands
             )
         ]
-        for c in extra:
-            if not any(abs(_cx(c) - (a + b) / 2) < 3 for a, b in slots):
-                slots.append((c.x0, c.x1))
+        for cand in extra:
+            if not any(abs(_cx(cand) - (a + b) / 2) < 3 for a, b in slots):
+                slots.append((cand.x0, cand.x1))
         slots.sort()
         return _Table(
             page.number,
@@ -358,9 +358,9 @@ def _assign_header(table: _Table) -> list[ColumnGuess]:
     for c in single:
         if any(inside(c, g) for g in group_boxes):
             continue
-        i = slot_of(c)
-        if i is not None:
-            own.setdefault(i, []).append(c)
+        slot = slot_of(c)
+        if slot is not None:
+            own.setdefault(slot, []).append(c)
     for col in cols:
         mine = own.get(col.index, [])
         if mine:

@@ -24,7 +24,7 @@ from extractor.fields import CIRCUIT_FIELDS, FieldKind
 from extractor.records import Certificate, Value, ValueKind
 
 if TYPE_CHECKING:
-    import pandas as pd  # type: ignore[import-untyped]  # no pandas-stubs in the venv
+    import pandas as pd
 
 
 def frame_columns() -> list[str]:

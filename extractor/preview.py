@@ -131,17 +131,19 @@ def render_pages(pdf: str, cert: Certificate | None, scale: float = SCALE) -> li
             circuit_boxes = [
                 b for lvl, _, b, _, _ in boxes if lvl == "circuit" and b.page == number
             ]
-            if circuit_boxes:
+            if circuit_boxes and cert is not None:  # boxes come from cert
                 x0 = min(b.x0 for b in circuit_boxes) * scale
                 y0 = min(b.top for b in circuit_boxes) * scale
                 x1 = max(b.x1 for b in circuit_boxes) * scale
                 y1 = max(b.bottom for b in circuit_boxes) * scale
-                for k, (name, (a, b)) in enumerate(
+                for k, (name, (left, right)) in enumerate(
                     sorted(_column_bands(cert, number).items(), key=lambda kv: kv[1][0])
                 ):
                     r, g, bl = PALETTE[k % len(PALETTE)]
-                    draw.rectangle([a * scale, y0, b * scale, y1], fill=(r, g, bl, 28))
-                    draw.text((a * scale + 1, y0 - 12 - 10 * (k % 3)), name, fill=(r, g, bl, 255))
+                    draw.rectangle([left * scale, y0, right * scale, y1], fill=(r, g, bl, 28))
+                    draw.text(
+                        (left * scale + 1, y0 - 12 - 10 * (k % 3)), name, fill=(r, g, bl, 255)
+                    )
                 _dashed(draw, (x0 - 3, y0 - 3, x1 + 3, y1 + 3))
             for lvl, _, b, ok, _ in boxes:
                 if b.page != number:
@@ -295,7 +297,7 @@ def rich_tables(result: TryResult, layout: Layout) -> list[Any]:
         t = Table(title=f"{len(result.unparsed)} cell(s) that did not parse")
         for h in ("board", "circuit", "field", "text", "problem"):
             t.add_column(h)
-        for row in result.unparsed:
-            t.add_row(*row)
+        for problem in result.unparsed:
+            t.add_row(*problem)
         out.append(t)
     return out

@@ -68,15 +68,7 @@ def test_draft_reads_two_level_and_vertical_headers() -> None:
 
 
 @pytest.mark.parametrize("pdf", acc.PITFALLS, ids=lambda p: Path(p).stem)
-def test_pitfall_read_fully_by_its_final_layout(pdf: str, request: pytest.FixtureRequest) -> None:
-    if "rotated-page" in pdf:
-        request.node.add_marker(
-            pytest.mark.xfail(
-                strict=True,
-                reason="engines (plumber.py, pdfium.py) read text turned 90° on a "
-                "/Rotate 90 page as horizontal, so the vertical headers are not found",
-            )
-        )
+def test_pitfall_read_fully_by_its_final_layout(pdf: str) -> None:
     truth = acc.load_truth(ROOT / pdf)
     sc = acc.measure_layout(pdf, ROOT / truth["layout"])
     assert sc.share == 1.0, sc.wrong

@@ -14,9 +14,14 @@ Ruling lines come from the page's path objects, classified as pdfminer classifie
 single segment is a line, a closed axis-aligned four-sided subpath a rectangle), so rules
 match the pdfplumber engine's too.
 
-Known difference: PDFium rounds glyph widths of embedded fonts to whole thousandths of an em,
-so on fonts with fractional widths a char's x can drift from pdfplumber's by a few hundredths
-of a point along a long run of text. The 14 standard fonts have whole widths: no drift.
+Text is mapped by `build_words` (Symbol/ZapfDingbats codes, U+2126/U+2206 → Ω/Δ), and a char's
+reading direction is decided on the displayed page with a tolerance (`words.char_direction`),
+so text turned 90° on a /Rotate 90 page reads vertical, as in the pdfplumber engine.
+
+Known difference: PDFium lays out chars of embedded fonts with glyph widths rounded to whole
+thousandths of an em, so on fonts with fractional widths a char's x can drift from
+pdfplumber's along a run of text (up to ~0.7 pt measured on the grid demo forms); words and
+records are the same. The 14 standard fonts have whole widths: no drift.
 
 Only raw PDFium calls are used per char (ctypes), the text is read in one call per page, and
 everything that is the same for all chars of one text object (matrix, size, font) is read
@@ -31,7 +36,7 @@ from collections.abc import Iterator
 from typing import Any
 
 from extractor.engines.base import PageContent, Rule
-from extractor.engines.plumber import THIN, check_pdf_file
+from extractor.engines.plumber import SAME, axis_rectangle, check_pdf_file, rect_rules
 from extractor.engines.words import Char, build_words, char_direction
 from extractor.errors import InputError
 
@@ -49,6 +54,7 @@ _STANDARD_DESCENT = {
 }
 
 _UNREADABLE = "\ufffd"
+_BAD_TEXT = frozenset(("\ufffe", "\uffff", "\x00", _UNREADABLE))
 
 
 def _standard_descent(name: str) -> float | None:
@@ -142,7 +148,13 @@ class _Reader:
         self.fflags = ctypes.c_int()
         self.fdesc = ctypes.c_float()
         self.font_descent: dict[int | None, tuple[str, float]] = {}
-        self.widths: dict[tuple[int | None, str], float] = {}  # (font, char) → advance in em
+        self.widths: dict[int | None, dict[str, float]] = {}  # font → char → advance in em
+        # FPDFText_GetTextObject returning the object's address as an int (None for chars
+        # PDFium generated): a cheap per-char key, no pointer object to cast
+        self.obj_address = ctypes.cast(
+            raw.FPDFText_GetTextObject,
+            ctypes.CFUNCTYPE(ctypes.c_void_p, ctypes.c_void_p, ctypes.c_int),
+        )
         self.fwidth = ctypes.c_float()
 
     # --- chars -------------------------------------------------------------------------
@@ -198,41 +210,53 @@ class _Reader:
         if n <= 0:
             return [], 0
         text = self._text(tp, n)
+        if text is None:
+            text = "".join(chr(raw.FPDFText_GetUnicode(tp, i)) for i in range(n))
         get_obj = raw.FPDFText_GetTextObject
+        obj_address = self.obj_address
         get_origin = raw.FPDFText_GetCharOrigin
         get_loose = raw.FPDFText_GetLooseCharBox
         map_error = raw.FPDFText_HasUnicodeMapError
         ox, oy, rect, m = self.ox, self.oy, self.rect, self.matrix
-        origin_args = (ctypes.byref(ox), ctypes.byref(oy))
+        ox_ref, oy_ref = ctypes.byref(ox), ctypes.byref(oy)
         rect_ref = ctypes.byref(rect)
+        tp_address = ctypes.cast(tp, ctypes.c_void_p)
         point = tf.point
         fast = tf.rotation == 0
         ox0, oy1 = tf.x0, tf.y0 + tf.h
         out: list[Char] = []
+        append = out.append
         unreadable = 0
         last_key: int | None = -1
         info: _ObjInfo | None = None
-        widths = self.widths
-        last_origin = (math.nan, math.nan)
+        widths: dict[str, float] = {}
+        last_x = last_y = math.nan
+        # per text object: upright text on an unrotated page (nearly every char) needs no
+        # corner transform
+        upright = False
+        a = b = c = d = fs = descent = 0.0
+        fontname = direction = ""
         for i in range(n):
-            obj = get_obj(tp, i)
-            key = ctypes.cast(obj, ctypes.c_void_p).value
+            key = obj_address(tp_address, i)
             if key is None:  # a char PDFium generated (line break, implied space)
                 continue
-            ch = text[i] if text is not None else chr(raw.FPDFText_GetUnicode(tp, i))
-            if map_error(tp, i) or ch in ("\ufffe", "\uffff", "\x00"):
+            ch = text[i]
+            if ch in _BAD_TEXT or map_error(tp, i):
                 ch = _UNREADABLE
-            if key != last_key or info is None:
+                unreadable += 1
+            get_origin(tp, i, ox_ref, oy_ref)
+            x, y = ox.value, oy.value
+            if key != last_key:
                 raw.FPDFText_GetMatrix(tp, i, m)
                 size = raw.FPDFText_GetFontSize(tp, i)
-                name, descent, fkey, font = self._font(tp, i, obj)
-                info = _ObjInfo(m.a, m.b, m.c, m.d, size, name, descent, fkey, font, tf.rotation)
+                name, desc, fkey, font = self._font(tp, i, get_obj(tp, i))
+                info = _ObjInfo(m.a, m.b, m.c, m.d, size, name, desc, fkey, font, tf.rotation)
+                a, b, c, d, fs, descent = info.a, info.b, info.c, info.d, info.size, info.descent
+                fontname, direction = info.fontname, info.direction
+                widths = self.widths.setdefault(fkey, {})
+                upright = fast and b == 0.0 and c == 0.0 and a > 0.0 and d > 0.0
                 last_key = key
-            if ch == _UNREADABLE:
-                unreadable += 1
-            get_origin(tp, i, *origin_args)
-            x, y = ox.value, oy.value
-            if key == last_key and (x, y) == last_origin and out:
+            elif x == last_x and y == last_y and out:
                 # PDFium expands a ligature glyph (ﬃ) into several chars at one origin: keep
                 # one char, as pdfplumber does, spanning the glyph's loose box
                 prev = out[-1]
@@ -241,43 +265,34 @@ class _Reader:
                 out[-1] = Char(prev.text + ch, min(prev.x0, lx0), prev.top, max(prev.x1, lx1),
                                prev.bottom, prev.size, prev.fontname, prev.upright, prev.direction)
                 continue
-            last_origin = (x, y)
-            a, b, c, d, fs = info.a, info.b, info.c, info.d, info.size
+            last_x, last_y = x, y
             # the advance (em fraction) from the font's width table, cached per font and char
-            width = widths.get((info.font, ch))
+            width = widths.get(ch)
             if width is None:
-                width = self._width(tp, i, info, ch, rect_ref)
-                widths[(info.font, ch)] = width
+                assert info is not None
+                width = widths[ch] = self._width(tp, i, info, ch, rect_ref)
+            if upright:
+                by = y + d * fs * descent
+                x0 = x - ox0
+                top = oy1 - (by + d * fs)
+                bottom = oy1 - by
+                append(Char(ch, x0, top, x0 + a * width * fs, bottom, bottom - top, fontname,
+                            True, direction))
+                continue
             ux, uy = a * width * fs, b * width * fs
             vx, vy = c * fs, d * fs
-            bx, by = x + vx * info.descent, y + vy * info.descent
-            if fast and b == 0.0 and c == 0.0 and a > 0.0 and d > 0.0:
-                # upright text on an unrotated page (nearly every char): no corner transform
-                x0, x1 = bx - ox0, bx + ux - ox0
-                top, bottom = oy1 - (by + vy), oy1 - by
-            else:
-                p0 = point(bx, by)
-                p1 = point(bx + ux, by + uy)
-                p2 = point(bx + vx, by + vy)
-                p3 = point(bx + ux + vx, by + uy + vy)
-                x0 = min(p0[0], p1[0], p2[0], p3[0])
-                x1 = max(p0[0], p1[0], p2[0], p3[0])
-                top = min(p0[1], p1[1], p2[1], p3[1])
-                bottom = max(p0[1], p1[1], p2[1], p3[1])
-            direction = info.direction
-            out.append(
-                Char(
-                    text=ch,
-                    x0=x0,
-                    top=top,
-                    x1=x1,
-                    bottom=bottom,
-                    size=bottom - top,
-                    fontname=info.fontname,
-                    upright=direction == "ltr",  # as pdfplumber: upright text reads "ltr"
-                    direction=direction,
-                )
-            )
+            bx, by = x + vx * descent, y + vy * descent
+            p0 = point(bx, by)
+            p1 = point(bx + ux, by + uy)
+            p2 = point(bx + vx, by + vy)
+            p3 = point(bx + ux + vx, by + uy + vy)
+            x0 = min(p0[0], p1[0], p2[0], p3[0])
+            x1 = max(p0[0], p1[0], p2[0], p3[0])
+            top = min(p0[1], p1[1], p2[1], p3[1])
+            bottom = max(p0[1], p1[1], p2[1], p3[1])
+            # as pdfplumber: upright text reads "ltr"; size is the extent along y
+            append(Char(ch, x0, top, x1, bottom, bottom - top, fontname, direction == "ltr",
+                        direction))
         return out, unreadable
 
     # --- rules -------------------------------------------------------------------------
@@ -382,32 +397,15 @@ def _classify(ops: str, pts: list[tuple[float, float]], stroke: bool, tf: _PageT
         rules.append(Rule(x0, top, x1, bottom))
         return
     if base == "mlll" and "h" in ops:
-        pts = [*pts, pts[0]]
-    elif not (base == "mllll" and pts[0] == pts[4]):
+        pass
+    elif not (base == "mllll" and abs(pts[0][0] - pts[4][0]) <= SAME
+              and abs(pts[0][1] - pts[4][1]) <= SAME):
         return
-    (x0, y0), (x1, y1), (x2, y2), (x3, y3), _ = pts
-    square = (x0 == x1 and y1 == y2 and x2 == x3 and y3 == y0) or (
-        y0 == y1 and x1 == x2 and y2 == y3 and x3 == x0
-    )
-    if not square:
+    corners = axis_rectangle(pts)
+    if corners is None:
         return
-    bx0, btop, bx1, bbottom = tf.box([x0, x2], [y0, y2])
-    w, h = bx1 - bx0, bbottom - btop
-    if h <= THIN and w > h:
-        mid = (btop + bbottom) / 2
-        rules.append(Rule(bx0, mid, bx1, mid))
-    elif w <= THIN and h > w:
-        mid = (bx0 + bx1) / 2
-        rules.append(Rule(mid, btop, mid, bbottom))
-    elif stroke:
-        rules.extend(
-            [
-                Rule(bx0, btop, bx1, btop),
-                Rule(bx0, bbottom, bx1, bbottom),
-                Rule(bx0, btop, bx0, bbottom),
-                Rule(bx1, btop, bx1, bbottom),
-            ]
-        )
+    x0, y0, x2, y2 = corners
+    rules.extend(rect_rules(*tf.box([x0, x2], [y0, y2]), stroke))
 
 
 class PdfiumDocument:

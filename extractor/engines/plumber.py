@@ -23,10 +23,53 @@ from collections.abc import Iterator
 from typing import Any
 
 from extractor.engines.base import PageContent, Rule
-from extractor.engines.words import CANONICAL, SYMBOL, Char, build_words, char_direction, is_unreadable
+from extractor.engines.words import (
+    CANONICAL,
+    SYMBOL,
+    Char,
+    build_words,
+    char_direction,
+    is_unreadable,
+)
 from extractor.errors import InputError
 
 THIN = 2.0  # a filled rectangle thinner than this (points) is a ruling line
+SAME = 1e-3  # coordinates closer than this (points) are equal: a /Rotate or a turned content
+# stream leaves cos 90° = 6e-17 in every point, enough for an exact test to miss a rectangle
+
+
+def axis_rectangle(pts: list[tuple[float, float]]) -> tuple[float, float, float, float] | None:
+    """(x0, y0, x1, y1) when four corners (a closed four-sided path) form an axis-aligned
+    rectangle, else None; pdfminer's test for a rectangle, with a tolerance of `SAME`."""
+    (xa, ya), (xb, yb), (xc, yc), (xd, yd) = pts[:4]
+
+    def eq(u: float, v: float) -> bool:
+        return abs(u - v) <= SAME
+
+    if (eq(xa, xb) and eq(yb, yc) and eq(xc, xd) and eq(yd, ya)) or (
+        eq(ya, yb) and eq(xb, xc) and eq(yc, yd) and eq(xd, xa)
+    ):
+        return min(xa, xc), min(ya, yc), max(xa, xc), max(ya, yc)
+    return None
+
+
+def rect_rules(x0: float, top: float, x1: float, bottom: float, stroke: bool) -> list[Rule]:
+    """Rules of a rectangle: a thin one is one line, a stroked one its four edges."""
+    w, h = x1 - x0, bottom - top
+    if h <= THIN and w > h:
+        mid = (top + bottom) / 2
+        return [Rule(x0, mid, x1, mid)]
+    if w <= THIN and h > w:
+        mid = (x0 + x1) / 2
+        return [Rule(mid, top, mid, bottom)]
+    if stroke:
+        return [
+            Rule(x0, top, x1, top),
+            Rule(x0, bottom, x1, bottom),
+            Rule(x0, top, x0, bottom),
+            Rule(x1, top, x1, bottom),
+        ]
+    return []
 
 
 def check_pdf_file(path: str) -> None:
@@ -96,22 +139,18 @@ def _rules(page: Any) -> list[Rule]:
         rules.append(Rule(float(ln["x0"]), float(ln["top"]), float(ln["x1"]), float(ln["bottom"])))
     for r in page.rects:
         x0, top, x1, bottom = (float(r[k]) for k in ("x0", "top", "x1", "bottom"))
-        w, h = x1 - x0, bottom - top
-        if h <= THIN and w > h:
-            mid = (top + bottom) / 2
-            rules.append(Rule(x0, mid, x1, mid))
-        elif w <= THIN and h > w:
-            mid = (x0 + x1) / 2
-            rules.append(Rule(mid, top, mid, bottom))
-        elif r.get("stroke"):
-            rules.extend(
-                [
-                    Rule(x0, top, x1, top),
-                    Rule(x0, bottom, x1, bottom),
-                    Rule(x0, top, x0, bottom),
-                    Rule(x1, top, x1, bottom),
-                ]
-            )
+        rules.extend(rect_rules(x0, top, x1, bottom, bool(r.get("stroke"))))
+    for c in page.curves:
+        # pdfminer keeps a rectangle whose corners differ by float noise as a "curve"
+        path = c.get("path") or []
+        ops = "".join(str(seg[0]) for seg in path)
+        pts = [(float(x), float(y)) for x, y in c.get("pts") or []]
+        if ops == "mlllh" or (ops == "mllll" and len(pts) == 5
+                              and abs(pts[0][0] - pts[4][0]) <= SAME
+                              and abs(pts[0][1] - pts[4][1]) <= SAME):
+            box = axis_rectangle(pts)
+            if box is not None:
+                rules.extend(rect_rules(*box, bool(c.get("stroke"))))
     return rules
 
 

@@ -21,7 +21,8 @@ the tight glyph outline, so that chars on one line share their bottom edge.
 from __future__ import annotations
 
 from collections.abc import Iterable
-from dataclasses import dataclass
+from operator import itemgetter
+from typing import NamedTuple
 
 from extractor.engines.base import ZAPF_DINGBATS, Word
 
@@ -55,8 +56,9 @@ SYMBOL = {
 CANONICAL = {"\u2126": "\u03a9", "\u2206": "\u0394", "\u00b5": "\u03bc"}
 
 
-@dataclass(frozen=True)
-class Char:
+class Char(NamedTuple):
+    """One char (a tuple: engines make tens of thousands per document, cheaply)."""
+
     text: str
     x0: float
     top: float
@@ -102,94 +104,140 @@ def is_unreadable(text: str) -> bool:
     return "(cid:" in text or "\ufffd" in text
 
 
-def _map_char(ch: Char) -> str:
-    if "dingbats" in ch.fontname.lower():
-        return ZAPF_DINGBATS.get(ch.text, ch.text)
-    text = ch.text
-    if "symbol" in ch.fontname.lower():
-        text = SYMBOL.get(text, text)
-    return CANONICAL.get(text, text)
+_SYMBOL_TABLE = {**CANONICAL, **SYMBOL}  # SYMBOL's values are canonical already
+_TABLES: dict[str, dict[str, str]] = {}
 
 
-def _line_key(ch: Char) -> float:
-    """The coordinate shared by chars on one line (the baseline side of the box)."""
-    if ch.direction == "btt":
-        return ch.x1
-    if ch.direction == "ttb":
-        return -ch.x0
-    if ch.direction == "rtl":
-        return -ch.top
-    return ch.bottom
-
-
-def _along(ch: Char) -> tuple[float, float]:
-    """(start, end) of a char along its reading direction, increasing as one reads."""
-    if ch.direction == "btt":
-        return (-ch.bottom, -ch.top)
-    if ch.direction == "ttb":
-        return (ch.top, ch.bottom)
-    if ch.direction == "rtl":
-        return (-ch.x1, -ch.x0)
-    return (ch.x0, ch.x1)
-
-
-def _sort_key(ch: Char) -> tuple[float, float, float, float, str]:
-    return (round(_line_key(ch), 3), round(_along(ch)[0], 3), ch.top, ch.x0, ch.text)
-
-
-def _lines(chars: list[Char]) -> list[list[Char]]:
-    """Group chars of one direction into lines (deterministic: sorted, then chained)."""
-    chars = sorted(chars, key=_sort_key)
-    lines: list[list[Char]] = []
-    ref = 0.0
-    for ch in chars:
-        key = _line_key(ch)
-        tol = max(LINE_FACTOR * ch.size, 0.5)
-        if lines and abs(key - ref) <= tol:
-            lines[-1].append(ch)
+def _table(fontname: str) -> dict[str, str]:
+    """The text mapping for chars of a font (cached by font name)."""
+    table = _TABLES.get(fontname)
+    if table is None:
+        low = fontname.lower()
+        if "dingbats" in low:
+            table = ZAPF_DINGBATS
+        elif "symbol" in low:
+            table = _SYMBOL_TABLE
         else:
-            lines.append([ch])
+            table = CANONICAL
+        _TABLES[fontname] = table
+    return table
+
+
+def _map_char(ch: Char) -> str:
+    return _table(ch.fontname).get(ch.text, ch.text)
+
+
+# Per direction: the char box (x0, top, x1, bottom) → (line key: the coordinate shared by
+# chars on one line, the baseline side of the box; start and end along the reading
+# direction, increasing as one reads; em: the font size measured across the line — the
+# box's extent across the reading direction, as engines give boxes from descent to
+# descent + font size; `Char.size` of a vertical char is its advance, pdfminer's
+# convention, far too small to judge gaps).
+def _geom_ltr(x0: float, top: float, x1: float, bottom: float) -> tuple[float, ...]:
+    return bottom, x0, x1, bottom - top
+
+
+def _geom_rtl(x0: float, top: float, x1: float, bottom: float) -> tuple[float, ...]:
+    return -top, -x1, -x0, bottom - top
+
+
+def _geom_btt(x0: float, top: float, x1: float, bottom: float) -> tuple[float, ...]:
+    return x1, -bottom, -top, x1 - x0
+
+
+def _geom_ttb(x0: float, top: float, x1: float, bottom: float) -> tuple[float, ...]:
+    return -x0, top, bottom, x1 - x0
+
+
+_GEOM = {"ltr": _geom_ltr, "rtl": _geom_rtl, "btt": _geom_btt, "ttb": _geom_ttb}
+
+# An item is (rounded line key, rounded start, top, x0, text, line key, start, end, em,
+# mapped text, char): sorted on its first five fields, as a sort key tuple would be.
+_LINE_ORDER = itemgetter(slice(0, 5))
+_WORD_ORDER = itemgetter(1, 2, 3, 4)
+
+
+def _items(chars: list[Char], direction: str) -> list[tuple]:  # type: ignore[type-arg]
+    geom = _GEOM.get(direction, _geom_ltr)
+    out = []
+    append = out.append
+    tables = _TABLES
+    for ch in chars:
+        text, x0, top, x1, bottom, _size, fontname = ch[:7]
+        key, start, end, em = geom(x0, top, x1, bottom)
+        table = tables.get(fontname) or _table(fontname)
+        append((round(key, 3), round(start, 3), top, x0, text, key, start, end, em,
+                table.get(text, text), ch))
+    out.sort(key=_LINE_ORDER)
+    return out
+
+
+def _lines(items: list[tuple]) -> list[list[tuple]]:  # type: ignore[type-arg]
+    """Group one direction's sorted items into lines (deterministic: sorted, then chained)."""
+    lines: list[list[tuple]] = []  # type: ignore[type-arg]
+    ref = 0.0
+    for it in items:
+        key = it[5]
+        tol = LINE_FACTOR * it[8]
+        if lines and abs(key - ref) <= (tol if tol > 0.5 else 0.5):
+            lines[-1].append(it)
+        else:
+            lines.append([it])
             ref = key
     return lines
 
 
-def _words_of_line(line: list[Char]) -> list[Word]:
-    line = sorted(line, key=lambda c: (round(_along(c)[0], 3), c.top, c.x0, c.text))
-    words: list[Word] = []
-    run: list[Char] = []
+def _word(run: list[tuple], texts: list[str]) -> Word:  # type: ignore[type-arg]
+    chars = [it[10] for it in run]
+    first = chars[0]
+    if len(chars) == 1:
+        return Word("".join(texts), first.x0, first.top, first.x1, first.bottom,
+                    first.direction in ("btt", "ttb"), first.size, first.direction)
+    return Word(
+        "".join(texts),
+        min(c.x0 for c in chars),
+        min(c.top for c in chars),
+        max(c.x1 for c in chars),
+        max(c.bottom for c in chars),
+        first.direction in ("btt", "ttb"),
+        max(c.size for c in chars),
+        first.direction,
+    )
+
+
+def _words_of_line(line: list[tuple], words: list[Word]) -> None:  # type: ignore[type-arg]
+    if len(line) > 1:
+        line.sort(key=_WORD_ORDER)
+    run: list[tuple] = []  # type: ignore[type-arg]
     texts: list[str] = []
     end = 0.0
-
-    def flush() -> None:
-        if run:
-            words.append(
-                Word(
-                    text="".join(texts),
-                    x0=min(c.x0 for c in run),
-                    top=min(c.top for c in run),
-                    x1=max(c.x1 for c in run),
-                    bottom=max(c.bottom for c in run),
-                    vertical=run[0].vertical,
-                    size=max(c.size for c in run),
-                    direction=run[0].direction,
-                )
-            )
-            run.clear()
-            texts.clear()
-
-    for ch in line:
-        text = _map_char(ch)
-        start, stop = _along(ch)
+    run_em = 0.0
+    for it in line:
+        text = it[9]
         if not text or text.isspace():
-            flush()
+            if run:
+                words.append(_word(run, texts))
+                run, texts = [], []
             continue
-        if run and start - end > GAP_FACTOR * max(ch.size, run[-1].size):
-            flush()
-        run.append(ch)
+        start, stop, em = it[6], it[7], it[8]
+        if run and start - end > GAP_FACTOR * (em if em > run_em else run_em):
+            words.append(_word(run, texts))
+            run, texts = [], []
+        run.append(it)
         texts.append(text)
-        end = stop if len(run) == 1 else max(end, stop)
-    flush()
-    return words
+        run_em = em
+        if len(run) == 1 or stop > end:
+            end = stop
+    if run:
+        words.append(_word(run, texts))
+
+
+def _horizontal_order(w: Word) -> tuple[float, float, str]:
+    return (round(w.top, 1), w.x0, w.text)
+
+
+def _vertical_order(w: Word) -> tuple[float, float, str]:
+    return (round(w.x0, 1), w.top, w.text)
 
 
 def build_words(chars: Iterable[Char]) -> list[Word]:
@@ -197,13 +245,17 @@ def build_words(chars: Iterable[Char]) -> list[Word]:
     then vertical words left-to-right, top-to-bottom."""
     by_dir: dict[str, list[Char]] = {d: [] for d in DIRECTIONS}
     for ch in chars:
-        by_dir.setdefault(ch.direction, []).append(ch)
+        lst = by_dir.get(ch[8])
+        if lst is None:
+            lst = by_dir[ch[8]] = []
+        lst.append(ch)
     words: list[Word] = []
     for direction in sorted(by_dir, key=lambda d: DIRECTIONS.index(d) if d in DIRECTIONS else 99):
-        for line in _lines(by_dir[direction]):
-            words.extend(_words_of_line(line))
-    horiz = sorted(
-        (w for w in words if not w.vertical), key=lambda w: (round(w.top, 1), w.x0, w.text)
-    )
-    vert = sorted((w for w in words if w.vertical), key=lambda w: (round(w.x0, 1), w.top, w.text))
+        if by_dir[direction]:
+            for line in _lines(_items(by_dir[direction], direction)):
+                _words_of_line(line, words)
+    horiz = [w for w in words if not w.vertical]
+    vert = [w for w in words if w.vertical]
+    horiz.sort(key=_horizontal_order)
+    vert.sort(key=_vertical_order)
     return horiz + vert
