@@ -145,33 +145,39 @@ def audit_file(
     return result
 
 
-def report_stem(result: AuditResult) -> str:
-    return result.source.stem
-
-
 def write_reports(
-    result: AuditResult, out_dir: Path, formats: Iterable[str], profile: Profile
+    result: AuditResult,
+    out_dir: Path,
+    formats: Iterable[str],
+    profile: Profile,
+    stem: str | None = None,
 ) -> dict[str, Path]:
+    """Write the certificate's reports as `<out_dir>/<stem>.html|.json|.records.csv|
+    .findings.csv` (stem: the PDF's name by default). A folder that cannot be written is an
+    InputError naming it, never a traceback."""
     from reports.csvout import write_csv
     from reports.html import write_html
     from reports.jsonout import write_json
 
-    out_dir.mkdir(parents=True, exist_ok=True)
-    stem = report_stem(result)
+    stem = stem or result.source.stem
+    cert, res = result.certificate, result.results
     outputs: dict[str, Path] = {}
     fmts = set(formats)
-    if "html" in fmts:
-        outputs["html"] = out_dir / f"{stem}.html"
-        write_html(result.certificate, result.results, outputs["html"],
-                   certvet_version=__version__, profile=profile)
-    if "json" in fmts:
-        outputs["json"] = out_dir / f"{stem}.json"
-        write_json(result.certificate, result.results, outputs["json"],
-                   certvet_version=__version__, profile=profile)
-    if "csv" in fmts:
-        written = write_csv(result.certificate, result.results, out_dir / stem)
-        for i, p in enumerate(written or []):
-            outputs[f"csv{i}"] = Path(p)
+    try:
+        out_dir.mkdir(parents=True, exist_ok=True)
+        if "html" in fmts:
+            outputs["html"] = write_html(cert, res, out_dir / f"{stem}.html",
+                                         certvet_version=__version__, profile=profile)
+        if "json" in fmts:
+            outputs["json"] = write_json(cert, res, out_dir / f"{stem}.json",
+                                         certvet_version=__version__, profile=profile)
+        if "csv" in fmts:
+            records, findings = write_csv(cert, res, out_dir / stem)
+            outputs["records_csv"], outputs["findings_csv"] = Path(records), Path(findings)
+    except OSError as exc:
+        where = exc.filename or out_dir
+        raise InputError(str(result.source),
+                         f"cannot write its reports to {where}: {exc.strerror or exc}") from None
     return outputs
 
 

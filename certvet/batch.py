@@ -165,20 +165,10 @@ def report_stem(source: Path, sha256: str) -> str:
 
 def write_certificate_reports(result: AuditResult, out_dir: Path, profile: Profile
                               ) -> dict[str, Path]:
-    from certvet import __version__
-    from reports.csvout import write_csv
-    from reports.html import write_html
-    from reports.jsonout import write_json
+    from certvet.api import write_reports
 
-    out_dir.mkdir(parents=True, exist_ok=True)
     stem = report_stem(result.source, result.certificate.sha256)
-    cert, res = result.certificate, result.results
-    html, js = out_dir / f"{stem}.html", out_dir / f"{stem}.json"
-    write_html(cert, res, html, certvet_version=__version__, profile=profile)
-    write_json(cert, res, js, certvet_version=__version__, profile=profile)
-    records, findings = write_csv(cert, res, out_dir / stem)
-    return {"html": html, "json": js, "records_csv": Path(records),
-            "findings_csv": Path(findings)}
+    return write_reports(result, out_dir, ("html", "json", "csv"), profile, stem)
 
 
 @dataclass(frozen=True)
@@ -315,20 +305,52 @@ def run_batch(
 
 
 def warm_up(layouts: Sequence[Layout], engine: str | None) -> None:
-    """Import and compile in the parent what every child needs, once: children are forked
-    from it, so each starts with the engines imported, the catalogue loaded and the report
-    template compiled instead of paying for that per file."""
-    from checks.registry import all_checks
-    from extractor.api import get_engine
-    from reports.html import warm_up as warm_up_html
+    """Do once in the parent what every child would otherwise do per file: import the
+    engines and report modules, load the catalogue and its reference tables, compile the
+    report template. Children are forked from the parent, so they start warm."""
+    from checks.runner import run_checks
+    from extractor.api import warm_up_engine
+    from reports.csvout import write_csv  # noqa: F401  (imported for the children)
+    from reports.html import render_html
+    from reports.jsonout import report_dict
 
     for name in {engine} if engine else {lay.engine for lay in layouts}:
         try:
-            get_engine(name)
+            warm_up_engine(name)
         except InputError:
             pass  # the child reports it, once per file
-    all_checks()
-    warm_up_html()
+    cert = _warm_up_certificate()
+    results = run_checks(cert)  # loads every check and the tables they read
+    render_html(cert, results, certvet_version="warm-up")
+    report_dict(cert, results, certvet_version="warm-up")
+
+
+def _warm_up_certificate() -> Any:
+    """A two-circuit certificate (a ring and a radial) that touches every kind of check."""
+    from extractor.fields import BOARD, FIELDS
+    from extractor.records import Board, Cell, Certificate, Circuit
+    from extractor.tokens import parse_value
+
+    def cells(specs: dict[str, Any], values: dict[str, str]) -> dict[str, Cell]:
+        return {
+            k: Cell(k, parse_value(v, specs[k].kind, specs[k].unit)) for k, v in values.items()
+        }
+
+    common = {"device_standard": "61009", "device_type": "B", "rcd_idn": "30",
+              "rcd_time": "21", "rcd_button": "✓", "polarity": "✓", "ir_test_voltage": "500",
+              "ir_live_live": ">999", "ir_live_earth": ">999", "max_zs": "1.37"}
+    ring = dict(common, circuit_ref="1", description="Sockets ring", live_csa="2.5",
+                cpc_csa="1.5", rating="32", r1="0.40", rn="0.40", r2="0.66", r1_r2="0.27",
+                zs="0.55")
+    radial = dict(common, circuit_ref="2", description="Lights", live_csa="1.5", cpc_csa="1.0",
+                  rating="6", r1_r2="0.80", zs="1.08", max_zs="7.28")
+    board = Board("DB1", cells(BOARD, {"board_ref": "DB1", "ze": "0.28", "ipf": "0.82",
+                                       "earthing": "TN-C-S"}))
+    for raw in (ring, radial):
+        board.circuits.append(Circuit("DB1", raw["circuit_ref"], cells(FIELDS, raw), 1))
+    cert = Certificate("warm-up.pdf", "0" * 64, "warm-up", "warm-up", 1)
+    cert.boards.append(board)
+    return cert
 
 
 def _store_outcome(corpus: Corpus, oc: Outcome, sha: str) -> FileOutcome:

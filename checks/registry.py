@@ -8,6 +8,7 @@ import pkgutil
 from checks.base import Check
 
 _REGISTRY: dict[str, type[Check]] = {}
+_LOADED = False
 
 
 def register(cls: type[Check]) -> type[Check]:
@@ -19,10 +20,16 @@ def register(cls: type[Check]) -> type[Check]:
 
 
 def _load() -> None:
+    """Import every module of checks.catalogue once per process (their @register fills the
+    registry)."""
+    global _LOADED
+    if _LOADED:
+        return
     import checks.catalogue as pkg
 
     for mod in pkgutil.iter_modules(pkg.__path__):
         importlib.import_module(f"checks.catalogue.{mod.name}")
+    _LOADED = True
 
 
 def all_checks() -> list[type[Check]]:

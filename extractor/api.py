@@ -201,3 +201,42 @@ def extract_recognised(
     if cert is None:
         return chosen, extract(path, chosen, engine=engine, password=password)
     return chosen, _require_schedule(path, chosen, cert)
+
+
+def warm_up_engine(name: str) -> None:
+    """Read a tiny generated PDF with the engine, so its one-time set-up (library start,
+    font machinery) is done now — e.g. in a parent process before it forks workers."""
+    import ctypes
+    import io
+    import os
+    import tempfile
+
+    import pypdfium2 as pdfium
+    import pypdfium2.raw as pdfium_c
+
+    pdf = pdfium.PdfDocument.new()
+    try:
+        page = pdf.new_page(595, 842)
+        font = pdfium_c.FPDFText_LoadStandardFont(pdf, b"Helvetica")
+        obj = pdfium_c.FPDFPageObj_CreateTextObj(pdf, font, 10.0)
+        text = ctypes.create_string_buffer("Circuit 1 0.42 >999 N/A\0".encode("utf-16-le"))
+        pdfium_c.FPDFText_SetText(obj, ctypes.cast(text, ctypes.POINTER(pdfium_c.FPDF_WCHAR)))
+        pdfium_c.FPDFPageObj_Transform(obj, 1, 0, 0, 1, 50, 700)
+        pdfium_c.FPDFPage_InsertObject(page, obj)
+        pdfium_c.FPDFPage_GenerateContent(page)
+        buf = io.BytesIO()
+        pdf.save(buf)
+    finally:
+        pdf.close()
+    fd, tmp = tempfile.mkstemp(suffix=".pdf", prefix="certvet-warm-up-")
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(buf.getvalue())
+        doc = open_document(tmp, name)
+        try:
+            for _ in doc.pages():
+                pass
+        finally:
+            doc.close()
+    finally:
+        os.unlink(tmp)

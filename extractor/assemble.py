@@ -115,6 +115,8 @@ def _vertical_lines(words: Sequence[Word]) -> list[list[Word]]:
 
 def text_of(words: Sequence[Word], tolerance: float = 3.0) -> str:
     """Text of a block of words: horizontal lines top to bottom, then vertical lines."""
+    if len(words) == 1:  # most data cells: one word, nothing to order
+        return words[0].text
     parts = [ln.text for ln in group_lines(words, tolerance)]
     parts += [" ".join(w.text for w in g) for g in _vertical_lines(words)]
     return " ".join(parts)
@@ -350,10 +352,13 @@ def find_headers(
     columns: Sequence[ColumnSpec], cands: Sequence[Cand], anchor: int, slack: float
 ) -> list[Header]:
     hdr_cols = [i for i, c in enumerate(columns) if c.header is not None]
-    matches = {
-        i: sorted((c for c in cands if columns[i].header.search(c.text)), key=_pref)  # type: ignore[union-attr]
-        for i in hdr_cols
-    }
+    texts = {c.text for c in cands}  # many cells repeat ("N/A", "500"): match each text once
+    matches = {}
+    for i in hdr_cols:
+        pattern = columns[i].header
+        assert pattern is not None
+        hits = {t for t in texts if pattern.search(t)}
+        matches[i] = sorted((c for c in cands if c.text in hits), key=_pref)
     need = max(1, min(2, len(hdr_cols)), int(HEADER_SHARE * len(hdr_cols) + 0.999))
     headers: list[Header] = []
     for a in sorted(matches[anchor], key=lambda c: (c.top, c.x0)):
@@ -366,21 +371,22 @@ def find_headers(
             if i != anchor
         }
         chosen: dict[int, Cand] = {anchor: a}
-        claimed = {a}
-        pending = dict(options)
-        while pending:
+        # Unclaimed options per column, narrowed as cells are claimed (a word cannot head two
+        # columns).
+        free = {
+            k: [c for c in opts if c is not a and not _overlaps_any(c, (a,))]
+            for k, opts in options.items()
+        }
+        while free:
             # columns with fewest unclaimed options choose first (a specific pattern
             # keeps its only cell from a looser pattern)
-            free = {
-                k: [c for c in opts if c not in claimed and not _overlaps_any(c, claimed)]
-                for k, opts in pending.items()
-            }
-            i = min(pending, key=lambda k: (len(free[k]) or 1_000_000, k))
-            opts = free[i]
-            del pending[i]
+            i = min(free, key=lambda k: (len(free[k]) or 1_000_000, k))
+            opts = free.pop(i)
             if opts:
-                chosen[i] = opts[0]
-                claimed.add(opts[0])
+                got = opts[0]
+                chosen[i] = got
+                for k, rest in free.items():
+                    free[k] = [c for c in rest if c is not got and not _overlaps_any(c, (got,))]
         if len(chosen) < need:
             continue
         top = min(c.top for c in chosen.values())
