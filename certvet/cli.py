@@ -184,19 +184,27 @@ def demo(
         "certvet-out/demo"
     ),
 ) -> None:
-    """Audit the bundled demo certificates (fixtures/demo) with their layouts."""
-    from certvet.api import demo_inputs
-    from extractor.errors import InputError
+    """Audit the bundled demo certificates (fixtures/demo) as a batch: a report per
+    certificate, the corpus, cross-certificate checks and the portfolio page."""
+    from certvet.api import DEMO_DIR, DEMO_LAYOUTS
+    from certvet.cli_batch import batch
 
+    if not any(DEMO_DIR.glob("*.pdf")):
+        _err(f"{DEMO_DIR}: no demo PDFs found (run: python fixtures/generate.py)")
+        raise typer.Exit(EXIT_FAILED)
+    code = EXIT_CLEAN
     try:
-        pdfs, layouts = demo_inputs()
-    except InputError as exc:
-        _err(str(exc))
-        raise typer.Exit(EXIT_FAILED) from None
-    from checks.profile import DEFAULT_PROFILE
-
-    code = _run_batch(pdfs, layouts, DEFAULT_PROFILE, out, None, None, False)
-    typer.echo(f"Open {out / (pdfs[0].stem + '.html')} in a browser to read a report.")
+        batch(
+            [DEMO_DIR], layout=[DEMO_LAYOUTS], store=out / "corpus.sqlite", out=out,
+            workers=None, timeout=120.0, memory_mb=2048, retry_failed=False, scheduler=None,
+            profile=None, password=None, quiet=False,
+        )
+    except typer.Exit as done:
+        code = done.exit_code
+    typer.echo(
+        f"Open {out / 'portfolio.html'} in a browser: it links every certificate's report. "
+        "(Running the demo again skips certificates already in the corpus.)"
+    )
     # The demo deliberately includes faulty certificates: finding them is success.
     raise typer.Exit(EXIT_FAILED if code == EXIT_FAILED else EXIT_CLEAN)
 

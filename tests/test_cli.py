@@ -92,5 +92,11 @@ def test_real_process_smoke(tmp_path: Path) -> None:
                          text=True, env=env, timeout=600)
     assert out.returncode == 0, out.stdout + out.stderr
     n = len(list(DEMO.glob("*.pdf")))
-    assert f"{n} file(s): {n} audited, 0 failed" in out.stdout
-    assert len(list(tmp_path.glob("*.html"))) == n
+    assert f"{n} file(s): {n} audited, 0 skipped, 0 failed" in out.stdout
+    assert "schedule-copied-from-other-address" in out.stdout
+    assert len(list((tmp_path / "certificates").glob("*.html"))) == n
+    assert (tmp_path / "portfolio.html").exists()
+    again = subprocess.run([str(exe), "demo", "--out", str(tmp_path)], capture_output=True,
+                           text=True, env=env, timeout=600)
+    assert again.returncode == 0
+    assert f"{n} file(s): 0 audited, {n} skipped, 0 failed" in again.stdout

@@ -90,12 +90,19 @@ class CrossCheckReport:
 
 
 def _describe(m: Match) -> str:
-    what = {"whole": "every board's readings", "board": "the readings of board(s) "
-            + ", ".join(sorted({b.board_a for b in m.blocks})),
-            "run": "the readings of circuits "
-            + ", ".join(f"{b.board_a} {b.first_a}–{b.last_a}" for b in m.blocks)}[m.kind]
-    how = "identical" if m.exact else f"identical or ±1 in the last digit ({m.near} nudged)"
-    return f"{what} {how} in {m.equal + m.near} of {m.compared} readings"
+    """Subject of a copy finding, e.g. "The readings of board DB1 (71 of 71 identical)"."""
+    what = {
+        "whole": "All boards' readings",
+        "board": "The readings of board " + ", ".join(sorted({b.board_a for b in m.blocks})),
+        "run": "The readings of circuits "
+        + ", ".join(f"{b.board_a} {b.first_a}–{b.last_a}" for b in m.blocks),
+    }[m.kind]
+    if m.exact:
+        how = f"{m.equal} of {m.compared} identical"
+    else:
+        how = (f"{m.equal} identical and {m.near} within ±1 in the last digit, "
+               f"of {m.compared}")
+    return f"{what} ({how})"
 
 
 def _match_finding(
@@ -164,7 +171,7 @@ def check_certificate(
             continue  # reported on the later certificate, or the same certificate twice
         out.append(_match_finding(
             COPIED, row, other, m,
-            f"{_describe(m)} match certificate {other.name} for "
+            f"{_describe(m)} match those of certificate {other.name} for "
             f"{other.address or 'another address'}"
             f" ({other.inspection_date or 'date unread'}, {other.inspector or 'inspector unread'}):"
             " ask how these readings were measured.",
@@ -181,7 +188,7 @@ def check_certificate(
 def _repeat_finding(row: CertificateRow, other: CertificateRow, m: Match) -> CrossFinding:
     return _match_finding(
         REPEATED, row, other, m,
-        f"{_describe(m)} repeat certificate {other.name} for this address dated "
+        f"{_describe(m)} repeat those of certificate {other.name} for this address dated "
         f"{other.inspection_date}: readings seldom come out the same years apart — ask whether "
         "the installation was retested.",
     )

@@ -160,6 +160,10 @@ class Corpus:
                 if fh.read(16) != _SQLITE_MAGIC:
                     raise CorpusError(f"{self.path}: not a certvet corpus (not an SQLite file)")
         try:
+            self.path.parent.mkdir(parents=True, exist_ok=True)
+        except OSError as e:
+            raise CorpusError(f"{self.path}: cannot create its folder: {e.strerror or e}") from None
+        try:
             self.conn = sqlite3.connect(self.path, timeout=timeout, isolation_level=None)
         except sqlite3.Error as e:
             raise CorpusError(f"{self.path}: cannot open the corpus: {e}") from None
