@@ -103,6 +103,8 @@ class BatchReport:
     outcomes: list[FileOutcome] = field(default_factory=list)
     cross_findings: list[CrossFinding] = field(default_factory=list)
     portfolio: Path | None = None
+    # certificate reports re-written with their cross-certificate findings (html and json)
+    related_reports: list[Path] = field(default_factory=list)
 
     def count(self, status: Status) -> int:
         return sum(1 for o in self.outcomes if o.status is status)
@@ -296,6 +298,9 @@ def run_batch(
             emit(_store_outcome(corpus, oc, sha_of[oc.path]))
 
         report.cross_findings = cross_findings(corpus, set(report.shas))
+        if reports_dir is not None:
+            report.related_reports = rewrite_related_reports(
+                corpus, report.cross_findings, reports_dir, prof, report.outcomes)
     if out is not None:
         write_cross_findings(report.cross_findings, out)
         if portfolio:
@@ -396,6 +401,130 @@ def cross_findings(corpus: Corpus, shas: set[str]) -> list[CrossFinding]:
     found.sort(key=lambda cf: (cf.finding.certificate, cf.finding.check_id,
                                cf.finding.related, cf.finding.message))
     return found
+
+
+def _report_html(sha: str, stems: Sequence[str], reports_dir: Path) -> Path | None:
+    """The certificate's own HTML report in `reports_dir`, when it exists."""
+    for stem in stems:
+        path = reports_dir / f"{stem}.html"
+        if path.exists():
+            return path
+    return None
+
+
+def related_findings(
+    corpus: Corpus, found: Sequence[CrossFinding], report_of: Callable[[int], Path | None]
+) -> dict[int, list[Any]]:
+    """The cross-certificate findings as `reports.model.RelatedFinding`s, by the id of the
+    certificate each is about. `report_of(cert_id)` gives a certificate's HTML report (or
+    None); links are its file name, as the reports are siblings in one folder."""
+    from urllib.parse import quote
+
+    from certvet.corpus.crosscheck import INSPECTOR_WORKLOAD, INSTRUMENT_WORKLOAD, NUMBER_REUSED
+    from certvet.corpus.store import CertificateRow
+    from reports.model import OtherCertificate, PairedValue, RelatedFinding
+
+    rows: dict[int, CertificateRow] = {}
+
+    def row(cid: int) -> CertificateRow:
+        if cid not in rows:
+            rows[cid] = corpus.certificate_row(cid)
+        return rows[cid]
+
+    def others_of(cf: CrossFinding, owner: int) -> list[CertificateRow]:
+        if cf.match is not None:
+            return [row(cf.match.cert_b)]
+        if cf.finding.check_id == NUMBER_REUSED:
+            return corpus.certificates(
+                "cert_number_norm = (SELECT cert_number_norm FROM certificates WHERE id = ?) "
+                "AND id != ? ORDER BY id", (owner, owner))
+        names = set(cf.finding.related)
+        same_day = cf.finding.check_id in (INSPECTOR_WORKLOAD, INSTRUMENT_WORKLOAD)
+        return [r for r in corpus.certificates(
+                    "id != ? AND inspection_date IS ? ORDER BY id" if same_day
+                    else "id != ? ORDER BY id",
+                    (owner, row(owner).inspection_date) if same_day else (owner,))
+                if r.name in names]
+
+    out: dict[int, list[Any]] = {}
+    for cf in found:
+        owner = cf.cert_id
+        if owner is None and cf.match is not None:
+            owner = cf.match.cert_a
+        if owner is None:
+            continue
+        others = []
+        for o in others_of(cf, owner):
+            html = report_of(o.id)
+            others.append(OtherCertificate(
+                name=o.name, address=o.address or "", date=o.inspection_date or "",
+                inspector=o.inspector or "", report=quote(html.name) if html else None))
+        readings = tuple(
+            PairedValue(board=b.board_a, circuit=r.circuit_a, field=r.field,
+                        here=r.raw_a or "", there=r.raw_b or "", relation=r.relation,
+                        board_there=b.board_b, circuit_there=r.circuit_b)
+            for b in (cf.match.blocks if cf.match is not None else ()) for r in b.readings)
+        out.setdefault(owner, []).append(RelatedFinding(cf.finding, tuple(others), readings))
+    return out
+
+
+def rewrite_related_reports(
+    corpus: Corpus,
+    found: Sequence[CrossFinding],
+    reports_dir: Path,
+    profile: Profile,
+    outcomes: Sequence[FileOutcome] = (),
+) -> list[Path]:
+    """Re-write the HTML and JSON reports of every certificate with a cross-certificate
+    finding, with the findings in them (section "Compared with other certificates"). The
+    certificate, its findings and check runs come back from the store, so certificates
+    audited in an earlier run are covered too, when their reports are in `reports_dir`.
+    Returns the files written; a report that cannot be written is left as it was."""
+    from datetime import datetime
+
+    from certvet import __version__
+    from checks.runner import CheckResults
+    from reports.html import write_html
+    from reports.jsonout import write_json
+
+    files = {f.sha256: f for f in corpus.files()}
+    stems_of: dict[str, list[str]] = {}
+    for o in outcomes:
+        if o.sha256 and "html" in o.reports:
+            stems_of.setdefault(o.sha256, []).append(o.reports["html"].stem)
+        elif o.sha256:
+            stems_of.setdefault(o.sha256, []).append(report_stem(o.path, o.sha256))
+    for sha, f in files.items():
+        stems_of.setdefault(sha, []).append(report_stem(Path(f.path), sha))
+    html_of: dict[int, Path | None] = {}
+
+    def report_of(cid: int) -> Path | None:
+        if cid not in html_of:
+            sha = corpus.certificate_row(cid).sha256
+            html_of[cid] = _report_html(sha, stems_of.get(sha, []), reports_dir)
+        return html_of[cid]
+
+    written: list[Path] = []
+    for cid, related in sorted(related_findings(corpus, found, report_of).items()):
+        html = report_of(cid)
+        if html is None:
+            continue  # never reported into this folder
+        cert = corpus.certificate(cid)
+        results = CheckResults(profile, corpus.check_runs(cid), corpus.findings(cid))
+        stored = files.get(cert.sha256)
+        when = datetime.fromisoformat(stored.audited_at) if stored else None
+        try:
+            written.append(write_html(
+                cert, results, html, certvet_version=__version__, profile=profile,
+                generated_at=when.strftime("%Y-%m-%d %H:%M UTC") if when else None,
+                related=related))
+            written.append(write_json(
+                cert, results, html.with_suffix(".json"), certvet_version=__version__,
+                profile=profile, generated_at=when.isoformat() if when else None,
+                related=related))
+        except OSError:
+            continue
+    return written
 
 
 def write_cross_findings(found: Sequence[CrossFinding], out_dir: Path) -> tuple[Path, Path]:

@@ -5,6 +5,7 @@ external resources). The view-model (``reports.model``) decides everything; the 
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from datetime import UTC, datetime
 from functools import lru_cache
 from pathlib import Path
@@ -14,7 +15,7 @@ from jinja2 import Environment, FileSystemLoader, StrictUndefined
 from checks.profile import Profile
 from checks.runner import CheckResults
 from extractor.records import Certificate
-from reports.model import ReportView, build_report
+from reports.model import RelatedFinding, ReportView, build_report
 
 TEMPLATES = Path(__file__).parent / "templates"
 
@@ -48,12 +49,13 @@ def render_html(
     certvet_version: str,
     profile: Profile | None = None,
     generated_at: str | None = None,
+    related: Sequence[RelatedFinding] = (),
 ) -> str:
     if generated_at is None:
         generated_at = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
     view = build_report(
         cert, results, certvet_version=certvet_version, profile=profile,
-        generated_at=generated_at,
+        generated_at=generated_at, related=related,
     )
     return render_view(view)
 
@@ -66,13 +68,16 @@ def write_html(
     certvet_version: str,
     profile: Profile | None = None,
     generated_at: str | None = None,
+    related: Sequence[RelatedFinding] = (),
 ) -> Path:
-    """Write the report for one certificate to ``path`` (UTF-8) and return the path."""
+    """Write the report for one certificate to ``path`` (UTF-8) and return the path.
+    ``related``: the findings of the comparison across certificates about this one (a batch
+    run fills it in; links in it are relative to ``path``'s folder)."""
     out = Path(path)
     out.parent.mkdir(parents=True, exist_ok=True)
     out.write_text(
         render_html(cert, results, certvet_version=certvet_version, profile=profile,
-                    generated_at=generated_at),
+                    generated_at=generated_at, related=related),
         encoding="utf-8",
     )
     return out

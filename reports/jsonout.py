@@ -10,6 +10,12 @@ Format history:
   circuit with ``cells``), ``problems``, ``findings`` (``Finding.to_dict``), ``check_runs``,
   ``profile`` (name, description, path, per-check overrides). A cell is ``Value.to_dict()``
   (kind, raw and, when set, number, unit, text, problem) plus ``box`` (or null).
+* 2 — adds ``related``: the findings of the comparison across certificates about this one
+  (empty outside a batch run). Each entry has ``finding`` (``Finding.to_dict``), ``others``
+  (name, address, date, inspector, report: the other certificates, ``report`` a relative link
+  or null) and ``readings`` (board, circuit, field, here, there, relation — ``equal``, ``near``
+  for ±1 in the last printed digit, or ``different`` — board_there, circuit_there). Version 1
+  documents are still read by ``certificate_from_json``.
 
 ``certificate_from_json`` rebuilds the ``Certificate`` from a document, so checks can be
 re-run on a saved report without the PDF.
@@ -18,6 +24,7 @@ re-run on a saved report without the PDF.
 from __future__ import annotations
 
 import json
+from collections.abc import Sequence
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
@@ -35,9 +42,11 @@ from extractor.records import (
     Value,
     ValueKind,
 )
+from reports.model import RelatedFinding
 from reports.verdict import decide
 
-FORMAT_VERSION = 1
+FORMAT_VERSION = 2
+READABLE_VERSIONS = (1, 2)
 
 
 def _box(box: Box | None) -> dict[str, Any] | None:
@@ -55,6 +64,7 @@ def report_dict(
     certvet_version: str,
     profile: Profile | None = None,
     generated_at: str | None = None,
+    related: Sequence[RelatedFinding] = (),
 ) -> dict[str, Any]:
     profile = profile or results.profile
     if generated_at is None:
@@ -97,6 +107,7 @@ def report_dict(
             for p in cert.problems
         ],
         "findings": [f.to_dict() for f in results.findings],
+        "related": [rf.to_dict() for rf in related],
         "check_runs": [
             {
                 "check_id": r.check_id,
@@ -132,6 +143,7 @@ def write_json(
     certvet_version: str,
     profile: Profile | None = None,
     generated_at: str | None = None,
+    related: Sequence[RelatedFinding] = (),
 ) -> Path:
     """Write the JSON report for one certificate and return the path.
 
@@ -140,7 +152,8 @@ def write_json(
     out = Path(path)
     out.parent.mkdir(parents=True, exist_ok=True)
     data = report_dict(
-        cert, results, certvet_version=certvet_version, profile=profile, generated_at=generated_at
+        cert, results, certvet_version=certvet_version, profile=profile,
+        generated_at=generated_at, related=related,
     )
     out.write_text(
         json.dumps(data, ensure_ascii=False, separators=(",", ":")) + "\n", encoding="utf-8"
@@ -175,9 +188,10 @@ def _cells_from(d: dict[str, dict[str, Any]]) -> dict[str, Cell]:
 def certificate_from_json(data: dict[str, Any]) -> Certificate:
     """Rebuild the Certificate recorded in a report document (boxes rounded to 0.01 pt)."""
     version = data.get("format_version")
-    if version != FORMAT_VERSION:
+    if version not in READABLE_VERSIONS:
         raise ValueError(
-            f"unsupported report format_version {version!r} (this certvet reads {FORMAT_VERSION})"
+            f"unsupported report format_version {version!r} (this certvet reads "
+            f"{', '.join(map(str, READABLE_VERSIONS))})"
         )
     c = data["certificate"]
     cert = Certificate(

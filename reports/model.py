@@ -5,6 +5,7 @@ colour class, which wording) is made here or in ``reports.verdict``.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -217,6 +218,8 @@ class ReportView:
     cautions: tuple[str, ...] = CAUTIONS
     circuit_count: int = 0
     extra: dict[str, Any] = field(default_factory=dict)
+    related: list[RelatedView] = field(default_factory=list)  # cross-certificate findings
+    related_note: str = ""  # the verdict box's sentence about them
 
 
 # --------------------------------------------------------------------------------------------
@@ -422,6 +425,7 @@ def build_report(
     certvet_version: str,
     profile: Profile | None = None,
     generated_at: str = "",
+    related: Sequence[RelatedFinding] = (),
 ) -> ReportView:
     profile = profile or results.profile
     runs = {r.check_id: r for r in results.runs}
@@ -484,4 +488,158 @@ def build_report(
         run_summary=_run_summary(results, circuits),
         profile=ProfileView(profile.name, profile.description, profile.path or "built in"),
         circuit_count=circuits,
+        related=_related_views(tuple(related)),
+        related_note=_related_note(tuple(related)),
     )
+
+
+# --------------------------------------------------------------------------------------------
+# findings of the comparison across certificates (filled in by a batch run; plain data only)
+
+RELATION_LABELS: dict[str, str] = {"equal": "equal", "near": "±1 in the last digit",
+                                   "different": "different"}
+# titles of the cross-certificate checks (certvet.corpus.crosscheck; not in the catalogue)
+CROSS_CHECK_TITLES: dict[str, str] = {
+    "schedule-copied-from-other-address": "Readings match a certificate for another address",
+    "schedule-repeats-earlier-at-address": "Readings repeat an earlier certificate here",
+    "certificate-number-reused": "Certificate number used on another certificate",
+    "inspector-workload-implausible": "More circuits in a day than one inspector can test",
+    "instrument-workload-implausible": "More circuits in a day than one instrument can test",
+}
+READINGS_MATCH_CHECKS = frozenset({"schedule-copied-from-other-address",
+                                   "schedule-repeats-earlier-at-address"})
+
+
+@dataclass(frozen=True)
+class OtherCertificate:
+    """A certificate a cross-certificate finding points at."""
+
+    name: str
+    address: str = ""
+    date: str = ""
+    inspector: str = ""
+    report: str | None = None  # href of its own report (relative), when known
+
+
+@dataclass(frozen=True)
+class PairedValue:
+    """One reading here beside the aligned reading on the other certificate."""
+
+    board: str
+    circuit: str
+    field: str
+    here: str
+    there: str
+    relation: str  # "equal", "near" (±1 in the last printed digit) or "different"
+    board_there: str = ""
+    circuit_there: str = ""
+
+
+@dataclass(frozen=True)
+class RelatedFinding:
+    """A finding of the comparison across certificates, about this certificate."""
+
+    finding: Finding
+    others: tuple[OtherCertificate, ...] = ()
+    readings: tuple[PairedValue, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "finding": self.finding.to_dict(),
+            "others": [vars(o).copy() for o in self.others],
+            "readings": [vars(r).copy() for r in self.readings],
+        }
+
+
+@dataclass(frozen=True)
+class PairCellView:
+    here: str
+    there: str
+    relation: str
+    title: str
+
+
+@dataclass(frozen=True)
+class PairRowView:
+    board: str
+    circuit: str
+    board_there: str
+    circuit_there: str
+    cells: tuple[PairCellView | None, ...]  # one per RelatedView.fields
+
+
+@dataclass(frozen=True)
+class RelatedView:
+    number: int
+    check_id: str
+    check_title: str
+    severity: str
+    severity_label: str
+    location: str
+    message: str
+    recorded: str
+    reference: str
+    others: tuple[OtherCertificate, ...]
+    fields: tuple[tuple[str, str], ...]  # (short heading, full label)
+    rows: tuple[PairRowView, ...]
+    summary: str  # "12 equal, 3 ±1, 1 different of 16 aligned readings"
+
+
+def _pair_cell(p: PairedValue | None) -> PairCellView | None:
+    if p is None:
+        return None
+    return PairCellView(p.here, p.there, p.relation,
+                        f"{p.field}: here {p.here or '—'}, there {p.there or '—'} "
+                        f"({RELATION_LABELS.get(p.relation, p.relation)})")
+
+
+def _related_views(related: Sequence[RelatedFinding]) -> list[RelatedView]:
+    order = list(FIELDS)
+    views: list[RelatedView] = []
+    for number, rf in enumerate(related, start=1):
+        f = rf.finding
+        names: list[str] = []
+        grouped: dict[tuple[str, str, str, str], dict[str, PairedValue]] = {}
+        for p in rf.readings:
+            if p.field not in names:
+                names.append(p.field)
+            grouped.setdefault((p.board, p.circuit, p.board_there, p.circuit_there),
+                               {})[p.field] = p
+        names.sort(key=lambda n: (order.index(n) if n in order else len(order), n))
+        fields = tuple((SHORT_LABELS.get(n, n), FIELDS[n].label if n in FIELDS else n)
+                       for n in names)
+        rows = tuple(
+            PairRowView(b, c, bt, ct, tuple(_pair_cell(cells.get(n)) for n in names))
+            for (b, c, bt, ct), cells in grouped.items()
+        )
+        count = {k: sum(1 for p in rf.readings if p.relation == k) for k in RELATION_LABELS}
+        summary = (f"{count['equal']} equal, {count['near']} within ±1 in the last digit, "
+                   f"{count['different']} different, of {len(rf.readings)} aligned readings"
+                   if rf.readings else "")
+        views.append(RelatedView(
+            number=number, check_id=f.check_id,
+            check_title=CROSS_CHECK_TITLES.get(f.check_id) or _check_title(f.check_id, {}),
+            severity=f.severity.slug, severity_label=f.severity.label, location=_location(f),
+            message=f.message, recorded=f.recorded or "", reference=f.reference,
+            others=rf.others, fields=fields, rows=rows, summary=summary,
+        ))
+    return views
+
+
+def _related_note(related: Sequence[RelatedFinding]) -> str:
+    """One sentence for the verdict box; "" when there is nothing to say."""
+    if not related:
+        return ""
+    copies = sorted({o.name for rf in related if rf.finding.check_id in READINGS_MATCH_CHECKS
+                     for o in rf.others})
+    rest = sum(1 for rf in related if rf.finding.check_id not in READINGS_MATCH_CHECKS)
+    parts = []
+    if copies:
+        parts.append("Readings on this certificate match those of "
+                     + ("certificate " if len(copies) == 1 else "certificates ")
+                     + ", ".join(copies) + ": ask how they were measured.")
+    if rest:
+        parts.append(f"The comparison with other certificates raised {rest} more "
+                     f"quer{'y' if rest == 1 else 'ies'}.")
+    return " ".join(parts) + (" See \u201cCompared with other certificates\u201d below; these "
+                              "queries do not change the outcome above.")

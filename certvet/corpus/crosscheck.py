@@ -60,6 +60,7 @@ class CrossCheckOptions:
 class CrossFinding:
     finding: Finding
     match: Match | None = None
+    cert_id: int | None = None  # the stored certificate the finding is about (names can repeat)
 
 
 @dataclass(frozen=True)
@@ -182,7 +183,7 @@ def check_certificate(
         if direct:
             out.append(_repeat_finding(row, prev, direct))
     out.extend(_number_reused(corpus, row))
-    return out
+    return [CrossFinding(cf.finding, cf.match, cert_id) for cf in out]
 
 
 def _repeat_finding(row: CertificateRow, other: CertificateRow, m: Match) -> CrossFinding:
@@ -246,7 +247,7 @@ def workload(corpus: Corpus, options: CrossCheckOptions | None = None) -> list[C
                     tolerance=f"{opts.minutes_per_circuit:g} min per circuit, "
                               f"{opts.working_day_hours:g} h per day",
                     related=tuple(o.name for o in rows if o.id != r.id),
-                )))
+                ), cert_id=r.id))
     return out
 
 

@@ -38,7 +38,7 @@ from certvet.corpus.similarity import (
     index_boards,
     stored_boards,
 )
-from checks.model import Finding, Severity
+from checks.model import CheckRun, Finding, Outcome, Severity
 from checks.runner import CheckResults
 from extractor.fields import BOARD, CERTIFICATE, FIELDS, FieldSpec
 from extractor.records import (
@@ -468,6 +468,19 @@ class Corpus:
                     related=tuple(json.loads(r[17])),
                 ))
         return out
+
+    def check_runs(self, cert_id: int) -> list[CheckRun]:
+        """The stored check runs of one certificate, in the order they ran."""
+        with self._guard("read"):
+            rows = self.conn.execute(
+                "SELECT check_id, title, outcome, applied_to, findings, options FROM check_runs "
+                "WHERE cert_id = ?", (cert_id,)).fetchall()
+        runs = {r[0]: CheckRun(r[0], r[1], Outcome(r[2]), r[3], r[4], json.loads(r[5]))
+                for r in rows}
+        from checks.registry import all_checks
+
+        order = {cls.id: i for i, cls in enumerate(all_checks())}
+        return sorted(runs.values(), key=lambda r: (order.get(r.check_id, len(order)), r.check_id))
 
     def certificate(self, cert_id: int) -> Certificate:
         """Rebuild the stored Certificate (cells, boxes, boards, circuits, problems)."""
