@@ -22,8 +22,13 @@ How a run goes:
 5. After the files: the cross-certificate checks of certvet.corpus.crosscheck (copied
    schedules, repeats at an address, reused numbers, workload) for every certificate of this
    batch's inputs — audited now or earlier, so a resumed run reports what one uninterrupted
-   run would — become findings of the batch (``cross-findings.csv`` / ``.json``), and the
-   portfolio page is written (``out_dir/portfolio.html``).
+   run would — become findings of the batch (``cross-findings.csv`` / ``.json``). The HTML and
+   JSON reports of every certificate with such a finding are re-written with them (section
+   "Compared with other certificates", a line in the verdict box, a link to the other
+   certificate's report): the certificate, findings and check runs come back from the store,
+   so a certificate skipped in this run whose reports are in ``out_dir/certificates`` gains the
+   section too (``rewrite_related_reports``). Then the portfolio page is written
+   (``out_dir/portfolio.html``).
 
 Every input ends in exactly one of ``audited``, ``skipped`` or ``failed`` (with a one-line
 reason naming the file): ``len(report.outcomes) == len(inputs)``.
@@ -437,12 +442,12 @@ def related_findings(
         if cf.finding.check_id == NUMBER_REUSED:
             return corpus.certificates(
                 "cert_number_norm = (SELECT cert_number_norm FROM certificates WHERE id = ?) "
-                "AND id != ? ORDER BY id", (owner, owner))
+                "AND id != ?", (owner, owner))
         names = set(cf.finding.related)
         same_day = cf.finding.check_id in (INSPECTOR_WORKLOAD, INSTRUMENT_WORKLOAD)
         return [r for r in corpus.certificates(
-                    "id != ? AND inspection_date IS ? ORDER BY id" if same_day
-                    else "id != ? ORDER BY id",
+                    "id != ? AND inspection_date IS ?" if same_day
+                    else "id != ?",
                     (owner, row(owner).inspection_date) if same_day else (owner,))
                 if r.name in names]
 

@@ -300,7 +300,8 @@ def test_json_round_trips(tmp_path: Path) -> None:
     path = write_json(cert, res, tmp_path / "r.json", certvet_version="9.9.9",
                       generated_at="fixed")
     data = json.loads(path.read_text(encoding="utf-8"))
-    assert data["format_version"] == FORMAT_VERSION == 1
+    assert data["format_version"] == FORMAT_VERSION == 2
+    assert data["related"] == []  # filled in by batch runs only
     assert list(data)[0] == "format_version"
     assert data == report_dict(cert, res, certvet_version="9.9.9", generated_at="fixed")
     assert data["findings"] == [f.to_dict() for f in res.findings]
@@ -315,9 +316,17 @@ def test_json_round_trips(tmp_path: Path) -> None:
 
 def test_json_rejects_unknown_format_version() -> None:
     data = report_dict(certificate(), results(), certvet_version="1", generated_at="x")
-    data["format_version"] = 2
+    data["format_version"] = 3
     with pytest.raises(ValueError, match="format_version"):
         certificate_from_json(data)
+
+
+def test_json_version_1_documents_still_read() -> None:
+    cert = certificate()
+    data = report_dict(cert, results(), certvet_version="1", generated_at="x")
+    del data["related"]  # what version 1 wrote
+    data["format_version"] = 1
+    assert certificate_from_json(data) == cert
 
 
 # --- CSV and frame ------------------------------------------------------------------------
