@@ -30,6 +30,9 @@ def rss_mb() -> float:
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--copies", type=int, default=10, help="copies of each demo PDF")
+    ap.add_argument("--seeds", type=int, default=0,
+                    help="instead of copies: generate the demo set with this many seeds (distinct "
+                         "readings; each seed's set has one planted copy), a realistic corpus")
     ap.add_argument("--workers", type=int, default=None, help="default: every core")
     ap.add_argument("--scheduler", default=None, help="Dask scheduler address")
     ap.add_argument("--audit-only", action="store_true",
@@ -39,11 +42,16 @@ def main() -> int:
     with tempfile.TemporaryDirectory(prefix="certvet-bench-") as tmp:
         inbox = Path(tmp) / "inbox"
         inbox.mkdir()
-        for pdf in sorted(DEMO_DIR.glob("*.pdf")):
-            data = pdf.read_bytes()
-            for i in range(args.copies):
-                (inbox / f"{pdf.stem}-{i:04d}.pdf").write_bytes(data + b"\n%" + str(i).encode())
-        n = sum(1 for _ in inbox.glob("*.pdf"))
+        if args.seeds:
+            generate_sets(inbox, args.seeds)
+        else:
+            for pdf in sorted(DEMO_DIR.glob("*.pdf")):
+                data = pdf.read_bytes()
+                for i in range(args.copies):
+                    (inbox / f"{pdf.stem}-{i:04d}.pdf").write_bytes(
+                        data + b"\n%" + str(i).encode()
+                    )
+        n = sum(1 for _ in inbox.rglob("*.pdf"))
         samples: list[tuple[int, float]] = []
         done = 0
 
@@ -72,6 +80,28 @@ def main() -> int:
     return 0
 
 
+def generate_sets(inbox: Path, seeds: int) -> None:
+    """The demo set generated with seeds 100, 101, …: distinct readings in every set."""
+    import subprocess
+    import sys
+
+    script = Path(__file__).resolve().parents[1] / "fixtures" / "generate.py"
+    made, seed = 0, 100
+    while made < seeds:
+        out = inbox / f"seed-{seed}"
+        done = subprocess.run([sys.executable, str(script), "--seed", str(seed), "--out",
+                               str(out)], capture_output=True)
+        seed += 1
+        if done.returncode != 0:  # the generator's self-check refused this seed's draw
+            shutil.rmtree(out, ignore_errors=True)
+            continue
+        for truth in out.glob("*.truth.json"):
+            truth.unlink()
+        made += 1
+    print(f"generated {made} demo sets ({sum(1 for _ in inbox.rglob('*.pdf'))} certificates; "
+          f"{seed - 100 - made} seeds refused by the generator's self-check)", flush=True)
+
+
 def audit_only(inbox: Path, out: Path, n: int, workers: int | None) -> int:
     """Certificates per minute for the whole audit of each file (the per-file work of a batch:
     recognise, extract, check, write HTML/JSON/CSV) on all cores, and the pages it read."""
@@ -83,7 +113,7 @@ def audit_only(inbox: Path, out: Path, n: int, workers: int | None) -> int:
     t0 = time.perf_counter()
     warm_up(layouts, None)
     pages = failed = 0
-    for oc in run_isolated(sorted(inbox.glob("*.pdf")), job, workers=workers):
+    for oc in run_isolated(sorted(inbox.rglob("*.pdf")), job, workers=workers):
         if oc.result is None:
             failed += 1
         else:

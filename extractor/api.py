@@ -36,7 +36,7 @@ def get_engine(name: str, path: str = "<engine>") -> Engine:
             raise InputError(
                 path, f"engine 'pdfium' is not available ({exc}); use engine 'pdfplumber'"
             ) from None
-        return pdfium.PdfiumEngine()  # type: ignore[no-any-return]
+        return pdfium.PdfiumEngine()
     if name == "lattice":
         from extractor.engines.lattice import LatticeEngine
 

@@ -18,9 +18,11 @@ Per schedule page:
 
 from __future__ import annotations
 
+import math
 from bisect import bisect_left, bisect_right
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
+from operator import attrgetter
 
 from extractor.engines.base import PageContent, Rule, Word
 from extractor.engines.words import is_unreadable
@@ -67,34 +69,49 @@ def _centre_x(w: Word) -> float:
     return (w.x0 + w.x1) / 2
 
 
+_X_ORDER = attrgetter("x0", "top", "text")  # a line's words left to right
+
+
 def make_line(words: Sequence[Word]) -> Line:
-    ws = sorted(words, key=lambda w: (w.x0, w.top, w.text))
+    ws = sorted(words, key=_X_ORDER)
     parts: list[str] = []
     spans: list[tuple[int, int]] = []
     pos = 0
     for w in ws:
         if parts:
             pos += 1
-        spans.append((pos, pos + len(w.text)))
+        n = len(w.text)
+        spans.append((pos, pos + n))
         parts.append(w.text)
-        pos += len(w.text)
-    return Line(ws, min(w.top for w in ws), max(w.bottom for w in ws), " ".join(parts), spans)
+        pos += n
+    return Line(ws, min([w.top for w in ws]), max([w.bottom for w in ws]), " ".join(parts), spans)
+
+
+def _line_groups(words: Iterable[Word], tolerance: float) -> list[list[Word]]:
+    """Horizontal words grouped into lines by vertical centre (within `tolerance` points), top
+    to bottom; each group in the order of (centre y, x0, text)."""
+    # decorate once (the index keeps the sort stable on equal keys, as a key function would)
+    keyed = sorted(
+        [((w.top + w.bottom) / 2, w.x0, w.text, k, w)
+         for k, w in enumerate(words) if not w.vertical]
+    )
+    groups: list[list[Word]] = []
+    mean = 0.0
+    group: list[Word] = []
+    for c, _, _, _, w in keyed:
+        if group and abs(c - mean) <= tolerance:
+            group.append(w)
+            mean += (c - mean) / len(group)
+        else:
+            group = [w]
+            groups.append(group)
+            mean = c
+    return groups
 
 
 def group_lines(words: Iterable[Word], tolerance: float) -> list[Line]:
     """Horizontal words grouped into lines by vertical centre (within `tolerance` points)."""
-    ws = sorted((w for w in words if not w.vertical), key=lambda w: (_centre_y(w), w.x0, w.text))
-    groups: list[list[Word]] = []
-    mean = 0.0
-    for w in ws:
-        c = _centre_y(w)
-        if groups and abs(c - mean) <= tolerance:
-            groups[-1].append(w)
-            mean += (c - mean) / len(groups[-1])
-        else:
-            groups.append([w])
-            mean = c
-    return [make_line(g) for g in groups]
+    return [make_line(g) for g in _line_groups(words, tolerance)]
 
 
 def _vertical_lines(words: Sequence[Word]) -> list[list[Word]]:
@@ -117,18 +134,21 @@ def text_of(words: Sequence[Word], tolerance: float = 3.0) -> str:
     """Text of a block of words: horizontal lines top to bottom, then vertical lines."""
     if len(words) == 1:  # most data cells: one word, nothing to order
         return words[0].text
-    parts = [ln.text for ln in group_lines(words, tolerance)]
-    parts += [" ".join(w.text for w in g) for g in _vertical_lines(words)]
+    # the text of `group_lines`, without building Line objects
+    parts = [" ".join([w.text for w in sorted(g, key=_X_ORDER)])
+             for g in _line_groups(words, tolerance)]
+    if any(w.vertical for w in words):
+        parts += [" ".join(w.text for w in g) for g in _vertical_lines(words)]
     return " ".join(parts)
 
 
 def union_box(page: int, words: Sequence[Word]) -> Box:
     return Box(
         page,
-        min(w.x0 for w in words),
-        min(w.top for w in words),
-        max(w.x1 for w in words),
-        max(w.bottom for w in words),
+        min([w.x0 for w in words]),
+        min([w.top for w in words]),
+        max([w.x1 for w in words]),
+        max([w.bottom for w in words]),
     )
 
 
@@ -141,8 +161,17 @@ def _merge_segments(
     """(position, start, end) segments → position → merged [start, end] intervals."""
     out: dict[float, list[tuple[float, float]]] = {}
     keys: list[float] = []
+    # While positions come in ascending order (always, unless one is NaN), keys are more than
+    # SNAP apart and at most the newest one can be within SNAP of `pos`: test it alone.
+    ascending = True
+    prev = -math.inf
     for pos, a, b in sorted(segs):
-        key = next((k for k in keys if abs(k - pos) <= SNAP), None)
+        if ascending and pos >= prev:
+            prev = pos
+            key = keys[-1] if keys and abs(keys[-1] - pos) <= SNAP else None
+        else:
+            ascending = False
+            key = next((k for k in keys if abs(k - pos) <= SNAP), None)
         if key is None:
             key = pos
             keys.append(key)
@@ -160,7 +189,13 @@ def _merge_segments(
 
 
 def _covers(ivs: list[tuple[float, float]] | None, a: float, b: float) -> bool:
-    return bool(ivs) and any(s <= a + SNAP and e >= b - SNAP for s, e in ivs or ())
+    if not ivs:
+        return False
+    lo, hi = a + SNAP, b - SNAP
+    for s, e in ivs:
+        if s <= lo and e >= hi:
+            return True
+    return False
 
 
 @dataclass
@@ -170,8 +205,14 @@ class Grid:
 
     @classmethod
     def from_rules(cls, rules: Sequence[Rule]) -> Grid:
-        h = [((r.top + r.bottom) / 2, r.x0, r.x1) for r in rules if r.horizontal]
-        v = [((r.x0 + r.x1) / 2, r.top, r.bottom) for r in rules if not r.horizontal]
+        h = []
+        v = []
+        for r in rules:
+            x0, top, x1, bottom = r.x0, r.top, r.x1, r.bottom
+            if abs(bottom - top) <= abs(x1 - x0):  # Rule.horizontal
+                h.append(((top + bottom) / 2, x0, x1))
+            else:
+                v.append(((x0 + x1) / 2, top, bottom))
         return cls(_merge_segments(h), _merge_segments(v))
 
     def cells(self) -> list[tuple[float, float, float, float]]:
@@ -223,7 +264,7 @@ class Grid:
 # --- header candidates ----------------------------------------------------------------------
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, init=False)
 class Cand:
     text: str
     x0: float
@@ -232,6 +273,12 @@ class Cand:
     bottom: float
     nwords: int
     ruled: bool
+
+    def __init__(self, text: str, x0: float, top: float, x1: float, bottom: float, nwords: int,
+                 ruled: bool) -> None:
+        # one dict update, not seven object.__setattr__ calls (pages make hundreds)
+        self.__dict__.update(text=text, x0=x0, top=top, x1=x1, bottom=bottom, nwords=nwords,
+                             ruled=ruled)
 
     @property
     def cx(self) -> float:
@@ -245,10 +292,10 @@ def _cand(
     tolerance: float = 3.0,
 ) -> Cand:
     b = box or (
-        min(w.x0 for w in words),
-        min(w.top for w in words),
-        max(w.x1 for w in words),
-        max(w.bottom for w in words),
+        min([w.x0 for w in words]),
+        min([w.top for w in words]),
+        max([w.x1 for w in words]),
+        max([w.bottom for w in words]),
     )
     return Cand(text_of(words, tolerance), *b, len(words), ruled)
 
@@ -400,10 +447,14 @@ def find_headers(
 def _overlaps_any(c: Cand, others: Iterable[Cand]) -> bool:
     """True when c shares area with a chosen candidate (a word cannot head two columns)."""
     for o in others:
-        ox = min(c.x1, o.x1) - max(c.x0, o.x0)
-        oy = min(c.bottom, o.bottom) - max(c.top, o.top)
-        if ox > 0.5 and oy > 0.5 and not (c.ruled and o.ruled):
-            return True
+        # min(c.x1, o.x1) - max(c.x0, o.x0), and the same across
+        ox = (o.x1 if o.x1 < c.x1 else c.x1) - (o.x0 if o.x0 > c.x0 else c.x0)
+        if ox > 0.5:
+            oy = (o.bottom if o.bottom < c.bottom else c.bottom) - (
+                o.top if o.top > c.top else c.top
+            )
+            if oy > 0.5 and not (c.ruled and o.ruled):
+                return True
     return False
 
 
@@ -491,19 +542,22 @@ def _phrases_to_columns(
         else:
             phrases.append([w])
     out: dict[int, list[Word]] = {}
+    cols = list(ext.items())
     for p in phrases:
-        x0, x1 = p[0].x0, max(w.x1 for w in p)
+        x0, x1 = p[0].x0, max([w.x1 for w in p])
         cx = (x0 + x1) / 2
-        best = max(
-            ext.items(),
-            key=lambda kv: (
-                min(x1, kv[1][1]) - max(x0, kv[1][0]),
-                kv[1][0] <= cx <= kv[1][1],
-                -kv[0],
-            ),
-        )
-        if min(x1, best[1][1]) - max(x0, best[1][0]) > 0:
-            out.setdefault(best[0], []).extend(p)
+        # the column of largest (overlap, centre inside, -index); only a positive overlap
+        # counts, so columns that do not overlap the phrase are skipped
+        best = -1
+        best_key: tuple[float, bool, int] | None = None
+        for i, (a, b) in cols:
+            ov = (b if b < x1 else x1) - (a if a > x0 else x0)  # min(x1, b) - max(x0, a)
+            if ov > 0:
+                key = (ov, a <= cx <= b, -i)
+                if best_key is None or key > best_key:
+                    best, best_key = i, key
+        if best_key is not None:
+            out.setdefault(best, []).extend(p)
     return out
 
 
@@ -519,11 +573,23 @@ def _split(text: str, sep: str, n: int) -> list[str]:
     return parts + [""] * (n - len(parts))
 
 
+_VALUES: dict[tuple[str, str], Value] = {}  # (text, field) → parsed Value (frozen: shared)
+_VALUES_MAX = 20_000  # forms repeat their cell texts ("N/A", "0.42", "✔"): parse each once
+
+
 def _value(text: str, field_name: str) -> Value:
+    got = _VALUES.get((text, field_name))
+    if got is not None:
+        return got
     spec = FIELDS.get(field_name) or BOARD.get(field_name) or CERTIFICATE[field_name]
     if text and is_unreadable(text):
-        return Value(ValueKind.UNREADABLE, text, problem="characters the PDF does not map to text")
-    return parse_value(text, spec.kind, spec.unit)
+        value = Value(ValueKind.UNREADABLE, text, problem="characters the PDF does not map to text")
+    else:
+        value = parse_value(text, spec.kind, spec.unit)
+    if len(_VALUES) >= _VALUES_MAX:
+        _VALUES.clear()
+    _VALUES[(text, field_name)] = value
+    return value
 
 
 class _Builder:

@@ -49,7 +49,9 @@ def test_demo_certificate(pdf: Path, layouts, tmp_path: Path) -> None:
     own_faults = [f for f in truth["faults"] if not _is_cross(f)]
     if truth["clean"] or not own_faults:
         # clean, or consistent on its own (only a cross-certificate fault planted)
-        assert findings == [], [f"{f.check_id} {f.board}/{f.circuit}: {f.message}" for f in findings]
+        assert findings == [], [
+            f"{f.check_id} {f.board}/{f.circuit}: {f.message}" for f in findings
+        ]
         assert result.verdict.label == "no concerns found"
         return
     missing = []
@@ -73,8 +75,13 @@ def test_demo_certificate(pdf: Path, layouts, tmp_path: Path) -> None:
 def test_cross_certificate_faults_found_in_a_batch_and_nothing_else(
     layouts, tmp_path: Path
 ) -> None:
-    report = run_batch([DEMO_DIR], layouts=layouts, store=tmp_path / "corpus.sqlite",
-                       out_dir=tmp_path / "out", workers=2)
+    report = run_batch(
+        [DEMO_DIR],
+        layouts=layouts,
+        store=tmp_path / "corpus.sqlite",
+        out_dir=tmp_path / "out",
+        workers=2,
+    )
     assert report.totals["audited"] == len(DEMO)
     planted = {
         (pdf.stem, check)
@@ -85,8 +92,9 @@ def test_cross_certificate_faults_found_in_a_batch_and_nothing_else(
     }
     assert planted, "the demo should plant at least one cross-certificate fault"
     names = {_truth(p)["certificate"]["cert_number"]: p.stem for p in DEMO}
-    found = {(names.get(cf.finding.certificate), cf.finding.check_id)
-             for cf in report.cross_findings}
+    found = {
+        (names.get(cf.finding.certificate), cf.finding.check_id) for cf in report.cross_findings
+    }
     assert planted <= found, f"not found: {planted - found}"
     # nothing links certificates that were not copied from each other
     stray = {x for x in found if x not in planted}

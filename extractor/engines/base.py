@@ -11,7 +11,7 @@ from typing import Protocol
 ZAPF_DINGBATS = {"3": "✓", "4": "✔", "5": "✗", "6": "✗", "7": "✗", "8": "✘"}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, init=False)
 class Word:
     """A run of characters on one line, with its box (points, top-left origin)."""
 
@@ -24,8 +24,16 @@ class Word:
     size: float = 0.0  # font size in points
     direction: str = "ltr"  # "ltr", "rtl", "btt" (turned 90° anticlockwise), "ttb"
 
+    # The generated __init__ of a frozen dataclass sets each field through
+    # object.__setattr__; engines make thousands of words per page, so fill the instance
+    # dict in one step (the same fields and defaults; still frozen afterwards).
+    def __init__(self, text: str, x0: float, top: float, x1: float, bottom: float,
+                 vertical: bool = False, size: float = 0.0, direction: str = "ltr") -> None:
+        self.__dict__.update(text=text, x0=x0, top=top, x1=x1, bottom=bottom,
+                             vertical=vertical, size=size, direction=direction)
 
-@dataclass(frozen=True)
+
+@dataclass(frozen=True, init=False)
 class Rule:
     """A ruling line segment (or a thin filled rectangle edge)."""
 
@@ -33,6 +41,11 @@ class Rule:
     top: float
     x1: float
     bottom: float
+
+    def __init__(self, x0: float, top: float, x1: float, bottom: float) -> None:
+        # as Word: one dict update instead of four object.__setattr__ calls
+        d = self.__dict__
+        d["x0"], d["top"], d["x1"], d["bottom"] = x0, top, x1, bottom
 
     @property
     def horizontal(self) -> bool:

@@ -116,6 +116,21 @@ class _PageTransform:
         return min(dx), min(dy), max(dx), max(dy)
 
 
+class _Handle(ctypes.c_void_p):
+    """A pointer result kept as a ctypes object (a c_void_p subclass is not turned into an
+    int), so it can be passed on to a `_bare` function as a pointer."""
+
+
+def _bare(func: Any, restype: Any = ctypes.c_int) -> Any:
+    """The C function behind a pypdfium2 binding, with `restype` and no argument types."""
+    bare: Any = ctypes.cast(func, ctypes.CFUNCTYPE(restype))
+    bare.argtypes = None
+    return bare
+
+
+_DIRECTIONS: dict[tuple[float, float, float, float, int], str] = {}  # text matrices repeat
+
+
 class _ObjInfo:
     """What all chars of one text object share."""
 
@@ -130,7 +145,13 @@ class _ObjInfo:
         self.descent = descent
         self.font = font  # the font's address: a cache key
         self.font_handle = font_handle
-        self.direction = _displayed_direction(a, b, c, d, rotation)
+        dkey = (a, b, c, d, rotation)
+        direction = _DIRECTIONS.get(dkey)
+        if direction is None:
+            if len(_DIRECTIONS) > 4096:
+                _DIRECTIONS.clear()
+            direction = _DIRECTIONS[dkey] = _displayed_direction(a, b, c, d, rotation)
+        self.direction = direction
 
 
 class _Reader:
@@ -149,13 +170,39 @@ class _Reader:
         self.fdesc = ctypes.c_float()
         self.font_descent: dict[int | None, tuple[str, float]] = {}
         self.widths: dict[int | None, dict[str, float]] = {}  # font → char → advance in em
+        self.fwidth = ctypes.c_float()
+        # The per-char and per-segment calls without ctypes argument conversion (about half
+        # the cost of a call through the bindings' argtypes): every pointer argument is passed
+        # as a ctypes pointer object (never a bare int), every int as a Python int.
+        self.f_origin = _bare(raw.FPDFText_GetCharOrigin)
+        self.f_map_error = _bare(raw.FPDFText_HasUnicodeMapError)
         # FPDFText_GetTextObject returning the object's address as an int (None for chars
         # PDFium generated): a cheap per-char key, no pointer object to cast
-        self.obj_address = ctypes.cast(
-            raw.FPDFText_GetTextObject,
-            ctypes.CFUNCTYPE(ctypes.c_void_p, ctypes.c_void_p, ctypes.c_int),
-        )
-        self.fwidth = ctypes.c_float()
+        self.f_obj_address = _bare(raw.FPDFText_GetTextObject, ctypes.c_void_p)
+        self.f_get_object = _bare(raw.FPDFPage_GetObject, _Handle)
+        self.f_obj_type = _bare(raw.FPDFPageObj_GetType)
+        self.f_segment = _bare(raw.FPDFPath_GetPathSegment, _Handle)
+        self.f_segment_type = _bare(raw.FPDFPathSegment_GetType)
+        self.f_segment_point = _bare(raw.FPDFPathSegment_GetPoint)
+        self.f_segment_close = _bare(raw.FPDFPathSegment_GetClose)
+        self.f_count_segments = _bare(raw.FPDFPath_CountSegments)
+        self.f_obj_matrix = _bare(raw.FPDFPageObj_GetMatrix)
+        self.f_obj_font = _bare(raw.FPDFTextObj_GetFont, ctypes.c_void_p)
+        self.f_char_matrix = _bare(raw.FPDFText_GetMatrix)
+        self.f_font_size = _bare(raw.FPDFText_GetFontSize, ctypes.c_double)
+        self.font_handles: dict[int | None, Any] = {}
+        self.f_form_count = _bare(raw.FPDFFormObj_CountObjects)
+        self.f_form_object = _bare(raw.FPDFFormObj_GetObject, _Handle)
+        self.f_draw_mode = _bare(raw.FPDFPath_GetDrawMode)
+        self.matrix_ref = ctypes.byref(self.matrix)
+        self.fill = ctypes.c_int()
+        self.stroke = ctypes.c_int()
+        self.fill_ref = ctypes.byref(self.fill)
+        self.stroke_ref = ctypes.byref(self.stroke)
+        self.px = ctypes.c_float()
+        self.py = ctypes.c_float()
+        self.px_ref = ctypes.byref(self.px)
+        self.py_ref = ctypes.byref(self.py)
 
     # --- chars -------------------------------------------------------------------------
 
@@ -167,14 +214,16 @@ class _Reader:
         text = buf.raw[: max(got - 1, 0) * 2].decode("utf-16-le", errors="replace")
         return text if len(text) == n else None
 
-    def _font(self, tp: Any, i: int, obj: Any) -> tuple[str, float, int | None, Any]:
-        """(name, pdfminer's descent in em, cache key, handle) of the font of char i."""
+    def _font(self, tp: Any, i: int, obj: int) -> tuple[str, float, int | None, Any]:
+        """(name, pdfminer's descent in em, cache key, handle) of the font of char i, whose
+        text object is at address `obj`."""
         raw = self.raw
-        font = raw.FPDFTextObj_GetFont(obj)
-        key = ctypes.cast(font, ctypes.c_void_p).value
+        key = self.f_obj_font(ctypes.c_void_p(obj))
         hit = self.font_descent.get(key)
         if hit is not None:
-            return hit[0], hit[1], key, font
+            return hit[0], hit[1], key, self.font_handles[key]
+        font = ctypes.cast(key, raw.FPDF_FONT)
+        self.font_handles[key] = font
         raw.FPDFText_GetFontInfo(tp, i, self.fbuf, 256, self.fflags)
         name = self.fbuf.value.decode("utf-8", errors="replace")
         descent = _standard_descent(name) if not raw.FPDFFont_GetIsEmbedded(font) else None
@@ -201,7 +250,7 @@ class _Reader:
             span = abs(rect.right - rect.left)
         else:
             span = abs(rect.top - rect.bottom)
-        return span / scale
+        return float(span / scale)
 
     def chars(self, tp: Any, tf: _PageTransform) -> tuple[list[Char], int]:
         """(chars, unreadable count) of a text page."""
@@ -212,15 +261,16 @@ class _Reader:
         text = self._text(tp, n)
         if text is None:
             text = "".join(chr(raw.FPDFText_GetUnicode(tp, i)) for i in range(n))
-        get_obj = raw.FPDFText_GetTextObject
-        obj_address = self.obj_address
-        get_origin = raw.FPDFText_GetCharOrigin
+        char_matrix, font_size, matrix_ref = self.f_char_matrix, self.f_font_size, self.matrix_ref
         get_loose = raw.FPDFText_GetLooseCharBox
-        map_error = raw.FPDFText_HasUnicodeMapError
         ox, oy, rect, m = self.ox, self.oy, self.rect, self.matrix
         ox_ref, oy_ref = ctypes.byref(ox), ctypes.byref(oy)
         rect_ref = ctypes.byref(rect)
         tp_address = ctypes.cast(tp, ctypes.c_void_p)
+        obj_address = self.f_obj_address
+        get_origin = self.f_origin
+        map_error = self.f_map_error
+        new_char = tuple.__new__  # Char(...) without the namedtuple's Python-level __new__
         point = tf.point
         fast = tf.rotation == 0
         ox0, oy1 = tf.x0, tf.y0 + tf.h
@@ -241,15 +291,15 @@ class _Reader:
             if key is None:  # a char PDFium generated (line break, implied space)
                 continue
             ch = text[i]
-            if ch in _BAD_TEXT or map_error(tp, i):
+            if ch in _BAD_TEXT or map_error(tp_address, i):
                 ch = _UNREADABLE
                 unreadable += 1
-            get_origin(tp, i, ox_ref, oy_ref)
+            get_origin(tp_address, i, ox_ref, oy_ref)
             x, y = ox.value, oy.value
             if key != last_key:
-                raw.FPDFText_GetMatrix(tp, i, m)
-                size = raw.FPDFText_GetFontSize(tp, i)
-                name, desc, fkey, font = self._font(tp, i, get_obj(tp, i))
+                char_matrix(tp_address, i, matrix_ref)
+                size = font_size(tp_address, i)
+                name, desc, fkey, font = self._font(tp, i, key)
                 info = _ObjInfo(m.a, m.b, m.c, m.d, size, name, desc, fkey, font, tf.rotation)
                 a, b, c, d, fs, descent = info.a, info.b, info.c, info.d, info.size, info.descent
                 fontname, direction = info.fontname, info.direction
@@ -276,8 +326,8 @@ class _Reader:
                 x0 = x - ox0
                 top = oy1 - (by + d * fs)
                 bottom = oy1 - by
-                append(Char(ch, x0, top, x0 + a * width * fs, bottom, bottom - top, fontname,
-                            True, direction))
+                append(new_char(Char, (ch, x0, top, x0 + a * width * fs, bottom, bottom - top,
+                                       fontname, True, direction)))
                 continue
             ux, uy = a * width * fs, b * width * fs
             vx, vy = c * fs, d * fs
@@ -298,37 +348,70 @@ class _Reader:
     # --- rules -------------------------------------------------------------------------
 
     def rules(self, page: Any, tf: _PageTransform) -> list[Rule]:
-        raw = self.raw
         rules: list[Rule] = []
-        n = raw.FPDFPage_CountObjects(page)
+        n = self.raw.FPDFPage_CountObjects(page)
+        get_object = self.f_get_object
         for i in range(n):
-            self._object_rules(raw.FPDFPage_GetObject(page, i), None, tf, rules, 0)
+            self._object_rules(get_object(page, i), None, tf, rules, 0)
         return rules
 
     def _object_rules(self, obj: Any, parent: tuple[float, ...] | None, tf: _PageTransform,
                       rules: list[Rule], depth: int) -> None:
         raw = self.raw
-        kind = raw.FPDFPageObj_GetType(obj)
-        if kind not in (raw.FPDF_PAGEOBJ_PATH, raw.FPDF_PAGEOBJ_FORM):
+        kind = self.f_obj_type(obj)
+        if kind != raw.FPDF_PAGEOBJ_PATH and kind != raw.FPDF_PAGEOBJ_FORM:
             return
         m = self.matrix
-        raw.FPDFPageObj_GetMatrix(obj, m)
-        mat = (m.a, m.b, m.c, m.d, m.e, m.f)
+        self.f_obj_matrix(obj, self.matrix_ref)
+        mat: tuple[float, ...] = (m.a, m.b, m.c, m.d, m.e, m.f)
         if parent is not None:
             mat = _multiply(mat, parent)
         if kind == raw.FPDF_PAGEOBJ_FORM:
             if depth >= 15:
                 return
-            for k in range(raw.FPDFFormObj_CountObjects(obj)):
-                self._object_rules(raw.FPDFFormObj_GetObject(obj, k), mat, tf, rules, depth + 1)
+            get_child = self.f_form_object
+            for k in range(self.f_form_count(obj)):
+                self._object_rules(get_child(obj, k), mat, tf, rules, depth + 1)
             return
-        fill = ctypes.c_int()
-        stroke = ctypes.c_int()
-        raw.FPDFPath_GetDrawMode(obj, ctypes.byref(fill), ctypes.byref(stroke))
+        fill, stroke = self.fill, self.stroke
+        self.f_draw_mode(obj, self.fill_ref, self.stroke_ref)
         if not fill.value and not stroke.value:
             return  # a clipping path or an invisible one: not drawn
-        for ops, pts in _subpaths(raw, obj, mat):
+        for ops, pts in self._subpaths(obj, mat):
             _classify(ops, pts, bool(stroke.value), tf, rules)
+
+    def _subpaths(self, obj: Any, mat: tuple[float, ...]) -> list[Subpath]:
+        """Each subpath of a path object as (pdfminer-style shape string, page-space points)."""
+        raw = self.raw
+        a, b, c, d, e, f = mat
+        x, y, x_ref, y_ref = self.px, self.py, self.px_ref, self.py_ref
+        get_segment, get_type = self.f_segment, self.f_segment_type
+        get_point, get_close = self.f_segment_point, self.f_segment_close
+        moveto, bezierto = raw.FPDF_SEGMENT_MOVETO, raw.FPDF_SEGMENT_BEZIERTO
+        out: list[Subpath] = []
+        ops: list[str] = []
+        pts: list[tuple[float, float]] = []
+        for k in range(self.f_count_segments(obj)):
+            seg = get_segment(obj, k)
+            kind = get_type(seg)
+            get_point(seg, x_ref, y_ref)
+            px, py = x.value, y.value
+            pt = (a * px + c * py + e, b * px + d * py + f)
+            if kind == moveto:
+                if ops:
+                    out.append(("".join(ops), pts))
+                ops, pts = ["m"], [pt]
+                continue
+            if not ops:
+                ops, pts = ["m"], [pt]
+                continue
+            ops.append("c" if kind == bezierto else "l")
+            pts.append(pt)
+            if get_close(seg):
+                ops.append("h")
+        if ops:
+            out.append(("".join(ops), pts))
+        return out
 
 
 def _displayed_direction(a: float, b: float, c: float, d: float, rotation: int) -> str:
@@ -352,37 +435,6 @@ def _multiply(m: tuple[float, ...], n: tuple[float, ...]) -> tuple[float, ...]:
 
 
 Subpath = tuple[str, list[tuple[float, float]]]
-
-
-def _subpaths(raw: Any, obj: Any, mat: tuple[float, ...]) -> list[Subpath]:
-    """Each subpath of a path object as (pdfminer-style shape string, page-space points)."""
-    a, b, c, d, e, f = mat
-    x = ctypes.c_float()
-    y = ctypes.c_float()
-    out: list[Subpath] = []
-    ops: list[str] = []
-    pts: list[tuple[float, float]] = []
-    for k in range(raw.FPDFPath_CountSegments(obj)):
-        seg = raw.FPDFPath_GetPathSegment(obj, k)
-        kind = raw.FPDFPathSegment_GetType(seg)
-        raw.FPDFPathSegment_GetPoint(seg, ctypes.byref(x), ctypes.byref(y))
-        px, py = x.value, y.value
-        pt = (a * px + c * py + e, b * px + d * py + f)
-        if kind == raw.FPDF_SEGMENT_MOVETO:
-            if ops:
-                out.append(("".join(ops), pts))
-            ops, pts = ["m"], [pt]
-            continue
-        if not ops:
-            ops, pts = ["m"], [pt]
-            continue
-        ops.append("c" if kind == raw.FPDF_SEGMENT_BEZIERTO else "l")
-        pts.append(pt)
-        if raw.FPDFPathSegment_GetClose(seg):
-            ops.append("h")
-    if ops:
-        out.append(("".join(ops), pts))
-    return out
 
 
 def _classify(ops: str, pts: list[tuple[float, float]], stroke: bool, tf: _PageTransform,
@@ -421,7 +473,7 @@ class PdfiumDocument:
         page = self._pdf[index]
         try:
             rotation = int(page.get_rotation() or 0) % 360
-            tf = _PageTransform(tuple(page.get_bbox()), rotation)  # type: ignore[arg-type]
+            tf = _PageTransform(tuple(page.get_bbox()), rotation)
             tp = raw.FPDFText_LoadPage(page.raw)
             if not tp:
                 raise InputError(self.path, f"damaged PDF: page {index + 1}: text cannot be read")

@@ -126,10 +126,10 @@ def _fix_base14_widths() -> None:
     for code, char in SYMBOL.items():
         width = symbol.get(char, symbol.get(afm_name.get(char, char)))
         if width is not None:
-            symbol.setdefault(ord(code), width)  # type: ignore[call-overload]
+            symbol.setdefault(ord(code), width)  # type: ignore[arg-type]  # pdfminer keys codes
     dingbats = FONT_METRICS["ZapfDingbats"][1]
     for code, width in _DINGBAT_WIDTHS.items():
-        dingbats.setdefault(ord(code), width)  # type: ignore[call-overload]
+        dingbats.setdefault(ord(code), width)  # type: ignore[arg-type]  # pdfminer keys codes
     _WIDTHS_FIXED = True
 
 

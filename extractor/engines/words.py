@@ -157,17 +157,35 @@ _LINE_ORDER = itemgetter(slice(0, 5))
 _WORD_ORDER = itemgetter(1, 2, 3, 4)
 
 
+_NO_FONT = object()  # no font seen yet
+
+
 def _items(chars: list[Char], direction: str) -> list[tuple]:  # type: ignore[type-arg]
     geom = _GEOM.get(direction, _geom_ltr)
-    out = []
+    out: list[tuple] = []  # type: ignore[type-arg]
     append = out.append
     tables = _TABLES
-    for ch in chars:
-        text, x0, top, x1, bottom, _size, fontname = ch[:7]
-        key, start, end, em = geom(x0, top, x1, bottom)
-        table = tables.get(fontname) or _table(fontname)
-        append((round(key, 3), round(start, 3), top, x0, text, key, start, end, em,
-                table.get(text, text), ch))
+    table: dict[str, str] = {}
+    last_font: object = _NO_FONT
+    if geom is _geom_ltr:  # nearly every char: `_geom_ltr` inlined
+        rounded: dict[float, float] = {}  # the chars of a line share their bottom: round once
+        for ch in chars:
+            text, x0, top, x1, bottom, _size, fontname = ch[:7]
+            if fontname is not last_font:
+                table = tables.get(fontname) or _table(fontname)
+                last_font = fontname
+            rb = rounded.get(bottom)
+            if rb is None:
+                rb = rounded[bottom] = round(bottom, 3)
+            append((rb, round(x0, 3), top, x0, text, bottom, x0, x1, bottom - top,
+                    table.get(text, text), ch))
+    else:
+        for ch in chars:
+            text, x0, top, x1, bottom, _size, fontname = ch[:7]
+            key, start, end, em = geom(x0, top, x1, bottom)
+            table = tables.get(fontname) or _table(fontname)
+            append((round(key, 3), round(start, 3), top, x0, text, key, start, end, em,
+                    table.get(text, text), ch))
     out.sort(key=_LINE_ORDER)
     return out
 
@@ -188,19 +206,20 @@ def _lines(items: list[tuple]) -> list[list[tuple]]:  # type: ignore[type-arg]
 
 
 def _word(run: list[tuple], texts: list[str]) -> Word:  # type: ignore[type-arg]
-    chars = [it[10] for it in run]
-    first = chars[0]
-    if len(chars) == 1:
+    first = run[0][10]
+    if len(run) == 1:
         return Word("".join(texts), first.x0, first.top, first.x1, first.bottom,
                     first.direction in ("btt", "ttb"), first.size, first.direction)
+    # the chars' fields as columns: (text, x0, top, x1, bottom, size, ...)
+    cols = tuple(zip(*[it[10] for it in run], strict=True))
     return Word(
         "".join(texts),
-        min(c.x0 for c in chars),
-        min(c.top for c in chars),
-        max(c.x1 for c in chars),
-        max(c.bottom for c in chars),
+        min(cols[1]),
+        min(cols[2]),
+        max(cols[3]),
+        max(cols[4]),
         first.direction in ("btt", "ttb"),
-        max(c.size for c in chars),
+        max(cols[5]),
         first.direction,
     )
 
