@@ -1,15 +1,16 @@
 """Extraction speed and memory, measured in one run on the same files (run by hand; not a test).
 
-    .venv/bin/python benchmarks/bench_extraction.py [--profile] [--repeat N]
+    .venv/bin/python benchmarks/bench_extraction.py [--profile] [--repeat N] [--batch N]
 
 Prints pages/second for: raw pypdfium2 chars (the floor: count_chars, get_text_range,
 get_charbox for every char), each certvet engine (plumber, pdfium: words + rules), the
 pdfium engine's full extraction (`extractor.api.extract`: chars → words → assemble), and the
 whole audit (certvet.api.audit_file, pdfium engine, no report files); the ratios to the floor;
 `certvet --help` start-up (median of several subprocess runs); peak Python memory
-(tracemalloc) and max RSS growth for the 300-page hostile PDF per engine. `--profile` prints
-the top of a cProfile of the pdfium engine's full extraction
-of the 300-page PDF.
+(tracemalloc) and max RSS growth for the 300-page hostile PDF per engine; and, last,
+certificates per minute for the whole audit of an N-file batch on every core (`--batch N`,
+default 1000). `--profile` prints the top of a cProfile of the pdfium engine's full
+extraction of the 300-page PDF.
 """
 
 from __future__ import annotations
@@ -139,10 +140,34 @@ def memory(name: str) -> tuple[float, float]:
     return peak / 2**20, (after - before) / 1024
 
 
+def batch_figure(n: int) -> None:
+    """Certificates per minute for the whole audit over an n-file batch on every core (the
+    same measurement as benchmarks/bench_batch.py --audit-only)."""
+    import tempfile
+
+    sys.path.insert(0, str(Path(__file__).resolve().parent))
+    from bench_batch import audit_only
+
+    demo = sorted((ROOT / "fixtures" / "demo").glob("*.pdf"))
+    with tempfile.TemporaryDirectory(prefix="certvet-bench-") as tmp:
+        inbox = Path(tmp) / "inbox"
+        inbox.mkdir()
+        for i in range(n):
+            pdf = demo[i % len(demo)]
+            (inbox / f"{pdf.stem}-{i:05d}.pdf").write_bytes(
+                pdf.read_bytes() + b"\n%" + str(i).encode()
+            )
+        print(f"batch of {n} certificates on every core:")
+        audit_only(inbox, Path(tmp) / "out", n, None)
+
+
 def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--repeat", type=int, default=2)
     ap.add_argument("--profile", action="store_true")
+    ap.add_argument("--batch", type=int, default=1000,
+                    help="certificates in the all-cores batch figure (copies of the demo PDFs; "
+                         "0 to skip)")
     args = ap.parse_args()
     paths = files()
     pages = sum(raw_floor(p) for p in paths)  # also warms the imports and the OS cache
@@ -166,6 +191,8 @@ def main() -> None:
         peak, rss = memory(name)
         print(f"memory, 300 pages, engine {name}: "
               f"tracemalloc peak {peak:.1f} MiB, max RSS +{rss:.1f} MiB")
+    if args.batch:
+        batch_figure(args.batch)
     if args.profile:
         prof = cProfile.Profile()
         prof.enable()
