@@ -116,8 +116,10 @@ def audit_file(
     engine: str | None = None,
     password: str | None = None,
     formats: Iterable[str] = ("html", "json", "csv"),
+    stem: str | None = None,
 ) -> AuditResult:
-    """Extract, check and (when out_dir is given) write the reports for one PDF.
+    """Extract, check and (when out_dir is given) write the reports for one PDF, named
+    `<stem>.*` (default: the PDF's name).
 
     Raises InputError (one-line message naming the file) for input that cannot be audited.
     """
@@ -141,7 +143,8 @@ def audit_file(
     results = run_checks(cert, profile or DEFAULT_PROFILE)
     result = AuditResult(path, cert, results, chosen.name)
     if out_dir is not None:
-        result.outputs = write_reports(result, out_dir, formats, profile or DEFAULT_PROFILE)
+        result.outputs = write_reports(result, out_dir, formats, profile or DEFAULT_PROFILE,
+                                       stem=stem)
     return result
 
 
@@ -207,10 +210,17 @@ def audit_many(
 ) -> BatchSummary:
     """Audit each file in turn; a bad file is recorded as failed with its reason, never fatal."""
     summary = BatchSummary()
+    used: set[str] = set()  # equal file names in different folders: cert.*, cert-2.*…
     for pdf in pdfs:
+        stem = name = Path(pdf).stem
+        n = 1
+        while stem.lower() in used:
+            n += 1
+            stem = f"{name}-{n}"
+        used.add(stem.lower())
         try:
             res = audit_file(pdf, layouts=layouts, layout=layout, profile=profile,
-                             out_dir=out_dir, engine=engine, password=password)
+                             out_dir=out_dir, engine=engine, password=password, stem=stem)
         except InputError as exc:
             summary.failed.append(Failure(Path(pdf), str(exc)))
             if on_done:

@@ -45,6 +45,17 @@ def _err(message: str) -> None:
     typer.echo(f"certvet: {message}", err=True)
 
 
+def _make_out_dir(out: Path) -> None:
+    """Create the reports folder up front: one line and exit 3 when it cannot be made."""
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        why = "a file of that name is in the way" if isinstance(exc, FileExistsError) else (
+            exc.strerror or str(exc))
+        _err(f"{out}: cannot create the reports folder: {why}")
+        raise typer.Exit(EXIT_FAILED) from None
+
+
 def _load_inputs(
     layout_paths: list[Path], profile_path: Path | None
 ) -> tuple[list[Layout], Profile]:
@@ -75,8 +86,10 @@ def _run_batch(
     lines: list[str] = []
 
     def done(path: Path, result: AuditResult | None, error: str | None) -> None:
+        if error and quiet:
+            _err(error)  # --quiet prints nothing but errors
         if error:
-            lines.append(f"FAILED   {error}")
+            lines.append(f"{'FAILED':<22} {error}")
         else:
             assert result is not None  # audit_many gives a result or an error
             v = result.verdict
@@ -143,6 +156,7 @@ def audit(
         typer.Option(
             "--layout",
             "-l",
+            metavar="LAYOUT",
             help="Layout file or folder of layouts; repeatable. "
             "Each file's form is recognised automatically among them.",
         ),
@@ -172,8 +186,9 @@ def audit(
     layouts, prof = _load_inputs(layout, profile)
     files = expand_inputs(pdfs)
     if not files:
-        _err("no PDF files found in the given paths")
+        _err(f"{', '.join(str(p) for p in pdfs)}: no PDF files found")
         raise typer.Exit(EXIT_FAILED)
+    _make_out_dir(out)
     code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet)
     raise typer.Exit(code)
 
@@ -259,7 +274,11 @@ def check_layout(
     bad = 0
     files: list[Path] = []
     for p in layouts:
-        files.extend(sorted(p.rglob("*.toml")) if p.is_dir() else [p])
+        found = sorted(p.rglob("*.toml")) if p.is_dir() else [p]
+        if not found:
+            bad += 1
+            typer.echo(f"invalid  {p}: no layout files (*.toml) in this folder")
+        files.extend(found)
     for f in files:
         try:
             lay = load_layout(f)

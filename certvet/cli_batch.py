@@ -25,12 +25,19 @@ def _err(message: str) -> None:
     typer.echo(f"certvet: {message}", err=True)
 
 
+def _why(exc: OSError) -> str:
+    if isinstance(exc, FileExistsError):
+        return f"{exc.filename or 'a file'} is a file, not a folder"
+    return exc.strerror or str(exc)
+
+
 def batch(
     inputs: Annotated[list[Path], typer.Argument(
         help="PDF files or folders (searched recursively).")],
     layout: Annotated[
         list[Path],
-        typer.Option("--layout", "-l", help="Layout file or folder of layouts; repeatable. "
+        typer.Option("--layout", "-l", metavar="LAYOUT",
+                     help="Layout file or folder of layouts; repeatable. "
                      "Each file's form is recognised automatically among them."),
     ] = [],  # noqa: B006
     store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")
@@ -74,6 +81,15 @@ def batch(
     except (LayoutError, ProfileError) as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_USAGE) from None
+
+    from certvet.api import expand_inputs
+
+    if not expand_inputs(inputs):
+        _err(f"{', '.join(str(p) for p in inputs)}: no PDF files found")
+        raise typer.Exit(EXIT_FAILED)
+    from certvet.cli import _make_out_dir
+
+    _make_out_dir(out)
 
     show_bar = not quiet and sys.stderr.isatty()
     lines: list[str] = []
@@ -168,6 +184,9 @@ def portfolio(
     except CorpusError as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_FAILED) from None
+    except OSError as exc:
+        _err(f"{out}: cannot write the portfolio: {_why(exc)}")
+        raise typer.Exit(EXIT_FAILED) from None
     typer.echo(f"portfolio written: {path}")
 
 
@@ -190,6 +209,9 @@ def export(
             written = corpus.export(out, format.value)
     except (CorpusError, ImportError) as exc:
         _err(" ".join(str(exc).split()))
+        raise typer.Exit(EXIT_FAILED) from None
+    except OSError as exc:
+        _err(f"{out}: cannot write the export: {_why(exc)}")
         raise typer.Exit(EXIT_FAILED) from None
     for p in written:
         typer.echo(str(p))

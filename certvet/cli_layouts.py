@@ -11,6 +11,8 @@ layout file); 3 the PDF could not be read or gave no draft / no circuits.
 
 from __future__ import annotations
 
+import sys
+from enum import StrEnum
 from pathlib import Path
 from typing import TYPE_CHECKING, Annotated
 
@@ -28,7 +30,19 @@ app = typer.Typer(
 
 EXIT_USAGE, EXIT_FAILED = 2, 3
 
-Engine = Annotated[str, typer.Option("--engine", help="pdfium (default), pdfplumber or lattice")]
+class EngineName(StrEnum):
+    pdfium = "pdfium"
+    pdfplumber = "pdfplumber"
+    lattice = "lattice"
+
+
+Engine = Annotated[
+    EngineName, typer.Option("--engine", help="pdfium (default), pdfplumber or lattice")
+]
+OptionalEngine = Annotated[
+    EngineName | None,
+    typer.Option("--engine", help="Override the layout's engine: pdfium, pdfplumber or lattice."),
+]
 
 
 def _err(message: str) -> None:
@@ -51,7 +65,7 @@ def draft_layout_cmd(
     name: Annotated[
         str | None, typer.Option("--name", help="form name (default: file name)")
     ] = None,
-    engine: Engine = "pdfium",
+    engine: Engine = EngineName.pdfium,
 ) -> None:
     """Draft a layout file from one sample PDF and show what was matched."""
     from extractor.draft import draft_layout
@@ -86,7 +100,11 @@ def draft_layout_cmd(
     if out is None:
         typer.echo(result.toml)
     else:
-        out.write_text(result.toml, encoding="utf-8")
+        try:
+            out.write_text(result.toml, encoding="utf-8")
+        except OSError as exc:
+            _err(f"{out}: cannot write the layout: {exc.strerror or exc}")
+            raise typer.Exit(EXIT_FAILED) from None
         con.print(f"wrote {out}")
 
 
@@ -96,7 +114,7 @@ def preview_cmd(
     out: Annotated[Path, typer.Option("-o", "--out", help="preview.html or preview.png")] = Path(
         "preview.html"
     ),
-    engine: Annotated[str | None, typer.Option("--engine")] = None,
+    engine: OptionalEngine = None,
 ) -> None:
     """Draw what the layout reads over the pages (HTML with images, or PNG)."""
     from extractor.errors import InputError
@@ -120,7 +138,7 @@ def preview_cmd(
 def try_layout_cmd(
     sample: Annotated[Path, typer.Argument(help="the PDF to read")],
     layout: Annotated[Path, typer.Option("--layout", "-l", help="layout TOML")],
-    engine: Annotated[str | None, typer.Option("--engine")] = None,
+    engine: OptionalEngine = None,
 ) -> None:
     """Read the PDF with the layout; print the rows and every cell that did not parse."""
     from rich.console import Console
@@ -137,7 +155,8 @@ def try_layout_cmd(
     if res.certificate is None:
         _err(res.message)
         raise typer.Exit(EXIT_FAILED)
-    con = Console()
+    # piped or redirected: rich would squeeze the table into 80 columns; give it its own width
+    con = Console() if sys.stdout.isatty() else Console(width=1000)
     for t in rich_tables(res, lay):
         con.print(t)
     if not res.unparsed:

@@ -122,6 +122,11 @@ def load_profile(path: str | Path) -> Profile:
         data = tomllib.loads(p.read_text(encoding="utf-8"))
     except FileNotFoundError:
         raise ProfileError(f"{p}: profile file not found") from None
+    except IsADirectoryError:
+        raise ProfileError(f"{p}: is a folder, not a profile file") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        why = exc.strerror if isinstance(exc, OSError) and exc.strerror else exc
+        raise ProfileError(f"{p}: cannot read profile: {why}") from None
     except tomllib.TOMLDecodeError as exc:
         raise ProfileError(f"{p}: not valid TOML: {exc}") from None
     return parse_profile(data, str(p))

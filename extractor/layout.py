@@ -136,9 +136,9 @@ class _Ctx:
         try:
             pat = re.compile(text)
         except re.error as exc:
-            raise self.fail(key, f"bad regular expression {text!r}: {exc}") from None
+            raise self.fail(key, f"bad regular expression '{text}': {exc}") from None
         if need_value and "value" not in pat.groupindex:
-            raise self.fail(key, f"pattern {text!r} needs a named group (?P<value>…)")
+            raise self.fail(key, f"pattern '{text}' needs a named group (?P<value>…)")
         return pat
 
     def regex_list(self, data: Any, key: str) -> tuple[re.Pattern[str], ...]:
@@ -341,8 +341,11 @@ def load_layout(path: str | Path) -> Layout:
         text = p.read_text(encoding="utf-8")
     except FileNotFoundError:
         raise LayoutError(f"{p}: layout file not found") from None
+    except IsADirectoryError:
+        raise LayoutError(f"{p}: is a folder, not a layout file") from None
     except (OSError, UnicodeDecodeError) as exc:
-        raise LayoutError(f"{p}: cannot read layout: {exc}") from None
+        why = exc.strerror if isinstance(exc, OSError) and exc.strerror else exc
+        raise LayoutError(f"{p}: cannot read layout: {why}") from None
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
@@ -354,5 +357,8 @@ def load_layouts(paths: list[Path]) -> list[Layout]:
     """Load every *.toml under the given files/folders, sorted by path."""
     files: list[Path] = []
     for p in paths:
-        files.extend(sorted(p.rglob("*.toml")) if p.is_dir() else [p])
+        found = sorted(p.rglob("*.toml")) if p.is_dir() else [p]
+        if not found:
+            raise LayoutError(f"{p}: no layout files (*.toml) in this folder")
+        files.extend(found)
     return [load_layout(f) for f in files]

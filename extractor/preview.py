@@ -22,6 +22,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from extractor.errors import InputError
 from extractor.layout import Layout
 from extractor.records import Box, Certificate, ValueKind
 
@@ -190,18 +191,21 @@ def preview(
     cert, message = _extract(pdf, layout, engine)
     images = render_pages(pdf, cert, scale)
     boxes = _cell_boxes(cert) if cert else []
-    if out.suffix.lower() == ".png":
-        from PIL import Image
+    try:
+        if out.suffix.lower() == ".png":
+            from PIL import Image
 
-        width = max(i.width for i in images)
-        sheet = Image.new("RGB", (width, sum(i.height for i in images)), "white")
-        y = 0
-        for i in images:
-            sheet.paste(i, (0, y))
-            y += i.height
-        sheet.save(out)
-    else:
-        out.write_text(_html(pdf, layout, images, cert, message), encoding="utf-8")
+            width = max(i.width for i in images)
+            sheet = Image.new("RGB", (width, sum(i.height for i in images)), "white")
+            y = 0
+            for i in images:
+                sheet.paste(i, (0, y))
+                y += i.height
+            sheet.save(out)
+        else:
+            out.write_text(_html(pdf, layout, images, cert, message), encoding="utf-8")
+    except OSError as exc:
+        raise InputError(str(out), f"cannot write the preview: {exc.strerror or exc}") from None
     unreadable = sum(1 for _, _, _, ok, _ in boxes if not ok)
     return PreviewResult(out, len(images), len(boxes), unreadable, message)
 

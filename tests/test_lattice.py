@@ -58,3 +58,16 @@ def test_lattice_rejects_a_non_pdf(tmp_path: Path) -> None:
     p.write_text("hello")
     with pytest.raises(InputError, match="not a PDF"):
         open_document(str(p), "lattice")
+
+
+def test_lattice_reads_certificate_details_in_a_framed_box() -> None:
+    """A one-column framed box of labels (page 1 details) keeps its lines, so the anchored
+    label patterns (`^Inspector: ...$`) read the same as with the other engines."""
+    lay = load_layout(ROOT / "fixtures/layouts/grid-landscape.toml")
+    pdf = str(ROOT / "fixtures/demo/grid-faulty-03.pdf")
+    a = extract(pdf, lay, engine="pdfplumber")
+    b = extract(pdf, lay, engine="lattice")
+    assert b.cells["inspector"].value.raw == "Callum Ostrowe"
+    assert {k: c.value.raw for k, c in b.cells.items()} == {
+        k: c.value.raw for k, c in a.cells.items()
+    }

@@ -77,6 +77,12 @@ def test_good_layout_loads(tmp_path: Path) -> None:
         ),
         ('pages = "2-"', "pages = true", "schedule.pages", "expected a string"),
         ("start = 'Board:\\s*(?P<value>\\S+)'", "start = 'Board:'", "board.start", "named group"),
+        (  # the pattern is quoted as written in the file, not as a Python repr (no doubled \\)
+            "start = 'Board:\\s*(?P<value>\\S+)'",
+            "start = 'Board:\\s*(\\S+)'",
+            "board.start",
+            "pattern 'Board:\\s*(\\S+)' needs a named group",
+        ),
         ('split = "/"', "split = 1", "columns[2].split", "expected a string"),
         (
             "ze = 'Ze:\\s*(?P<value>\\S+)'",
@@ -105,6 +111,8 @@ def test_unreadable_layout_files(tmp_path: Path) -> None:
     bad = _write(tmp_path, "[form\nname=")
     with pytest.raises(LayoutError, match=r"form\.toml: not valid TOML"):
         load_layout(bad)
+    with pytest.raises(LayoutError, match="is a folder, not a layout file"):
+        load_layout(tmp_path)
 
 
 def test_parse_layout_from_dict() -> None:

@@ -162,7 +162,9 @@ class Corpus:
         try:
             self.path.parent.mkdir(parents=True, exist_ok=True)
         except OSError as e:
-            raise CorpusError(f"{self.path}: cannot create its folder: {e.strerror or e}") from None
+            why = "a file of that name is in the way" if isinstance(e, FileExistsError) else (
+                e.strerror or e)
+            raise CorpusError(f"{self.path}: cannot create its folder: {why}") from None
         try:
             self.conn = sqlite3.connect(self.path, timeout=timeout, isolation_level=None)
         except sqlite3.Error as e:

@@ -67,6 +67,8 @@ def convert_page(base: PageContent, tables: list[Any]) -> PageContent:
     words = list(base.words)
     rules = list(base.rules)
     for t in tables:
+        if t.shape[1] < 2:
+            continue  # a framed one-column box (certificate details), not a table: keep its lines
         seen: set[tuple[float, float, float, float]] = set()
         for row in t.cells:
             for c in row:
