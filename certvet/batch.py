@@ -219,6 +219,13 @@ def _hash(path: Path) -> tuple[str | None, str | None]:
         return None, str(exc).replace("\n", " ")
 
 
+def _reason_only(reason: str | None) -> str:
+    """A stored failure reason without its leading '<file>: ' (the line names the file)."""
+    text = reason or "no reason recorded"
+    head, sep, rest = text.partition(": ")
+    return rest if sep and head.lower().endswith(".pdf") else text
+
+
 def _one_line(text: str) -> str:
     return " ".join(text.split())
 
@@ -279,7 +286,8 @@ def run_batch(
             row = stored.get(sha)
             if row is not None and not (retry_failed and row.status == "failed"):
                 failed_before = row.status == "failed"
-                what = (f"failed before: {row.failure_reason}" if failed_before
+                what = (f"failed before ({_reason_only(row.failure_reason)}); "
+                        "--retry-failed runs it again" if failed_before
                         else f"already audited ({row.audited_at}, layout {row.layout})")
                 emit(FileOutcome(path, Status.SKIPPED, sha, reason=_one_line(f"{path}: {what}"),
                                  layout=row.layout, breach=sha in breach_shas,

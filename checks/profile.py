@@ -106,6 +106,8 @@ def parse_profile(data: dict[str, Any], path: str = "<profile>") -> Profile:
                 isinstance(default, (int, float)) and not isinstance(v, (int, float))
             ) or (isinstance(default, str) and not isinstance(v, str)):
                 raise fail(f"{key}.{k}", f"expected a value like {default!r}, got {v!r}")
+            if isinstance(v, (int, float)) and not isinstance(v, bool) and not v >= 0:
+                raise fail(f"{key}.{k}", f"must be zero or more, got {v!r}")
             opts[k] = float(v) if isinstance(default, float) and not isinstance(v, bool) else v
         settings[cid] = CheckSettings(enabled, sev, opts)
     return Profile(

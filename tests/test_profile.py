@@ -110,3 +110,17 @@ def test_unreadable_and_missing_files(tmp_path: Path) -> None:
 def test_parse_profile_default_path_label() -> None:
     with pytest.raises(ProfileError, match=r"^<profile>: checks\.x-y: "):
         parse_profile({"checks": {"x-y": {}}})
+
+
+def test_negative_option_is_refused(tmp_path) -> None:
+    # A negative tolerance would flag every ring: refused at load time, naming file and key.
+    import pytest
+
+    from checks.profile import ProfileError, load_profile
+
+    p = tmp_path / "neg.toml"
+    p.write_text("[checks.ring-rn-matches-r1]\ntolerance_ohm = -1\n", encoding="utf-8")
+    with pytest.raises(ProfileError) as err:
+        load_profile(p)
+    assert str(err.value).startswith(f"{p}: checks.ring-rn-matches-r1.tolerance_ohm: ")
+    assert "zero or more" in str(err.value)
