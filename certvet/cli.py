@@ -149,7 +149,8 @@ def _run_batch(
 @app.command()
 def audit(
     pdfs: Annotated[
-        list[Path], typer.Argument(help="PDF files or folders (searched recursively).")
+        list[Path],
+        typer.Argument(metavar="PDF", help="PDF files or folders (searched recursively)."),
     ],
     layout: Annotated[
         list[Path],
@@ -236,7 +237,9 @@ def list_checks() -> None:
 
 @app.command()
 def explain(
-    check_id: Annotated[str, typer.Argument(help="A check id, see `certvet checks`.")],
+    check_id: Annotated[
+        str, typer.Argument(metavar="CHECK-ID", help="A check id, see `certvet checks`.")
+    ],
 ) -> None:
     """Explain one check: what it checks, why, false alarms, examples, options, reference."""
     from checks.describe import explain_check
@@ -266,7 +269,10 @@ def fields() -> None:
 
 @app.command("check-layout")
 def check_layout(
-    layouts: Annotated[list[Path], typer.Argument(help="Layout files or folders to validate.")],
+    layouts: Annotated[
+        list[Path],
+        typer.Argument(metavar="LAYOUT", help="Layout files or folders to validate."),
+    ],
 ) -> None:
     """Validate layout files; print one line per problem."""
     from extractor.layout import LayoutError, load_layout

@@ -33,7 +33,7 @@ def _why(exc: OSError) -> str:
 
 def batch(
     inputs: Annotated[list[Path], typer.Argument(
-        help="PDF files or folders (searched recursively).")],
+        metavar="PDF", help="PDF files or folders (searched recursively).")],
     layout: Annotated[
         list[Path],
         typer.Option("--layout", "-l", metavar="LAYOUT",

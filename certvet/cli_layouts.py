@@ -60,7 +60,7 @@ def _layout(path: Path) -> Layout:
 
 
 def draft_layout_cmd(
-    sample: Annotated[Path, typer.Argument(help="a sample PDF of the form")],
+    sample: Annotated[Path, typer.Argument(metavar="SAMPLE.pdf", help="a sample PDF of the form")],
     out: Annotated[Path | None, typer.Option("-o", "--out", help="write the TOML here")] = None,
     name: Annotated[
         str | None, typer.Option("--name", help="form name (default: file name)")
@@ -109,7 +109,7 @@ def draft_layout_cmd(
 
 
 def preview_cmd(
-    sample: Annotated[Path, typer.Argument(help="the PDF to read")],
+    sample: Annotated[Path, typer.Argument(metavar="SAMPLE.pdf", help="the PDF to read")],
     layout: Annotated[Path, typer.Option("--layout", "-l", help="layout TOML")],
     out: Annotated[Path, typer.Option("-o", "--out", help="preview.html or preview.png")] = Path(
         "preview.html"
@@ -136,7 +136,7 @@ def preview_cmd(
 
 
 def try_layout_cmd(
-    sample: Annotated[Path, typer.Argument(help="the PDF to read")],
+    sample: Annotated[Path, typer.Argument(metavar="SAMPLE.pdf", help="the PDF to read")],
     layout: Annotated[Path, typer.Option("--layout", "-l", help="layout TOML")],
     engine: OptionalEngine = None,
 ) -> None:
