@@ -32,6 +32,7 @@ __all__ = [
     "InputError",
     "LayoutError",
     "NoLayoutMatches",
+    "ReportWriteError",
     "audit_file",
     "audit_many",
     "choose_layout",
@@ -45,6 +46,11 @@ __all__ = [
 REPO_ROOT = Path(__file__).resolve().parents[1]
 DEMO_DIR = REPO_ROOT / "fixtures" / "demo"
 DEMO_LAYOUTS = REPO_ROOT / "fixtures" / "layouts"
+
+
+class ReportWriteError(InputError):
+    """The certificate's reports could not be written (the output folder's fault, not the
+    PDF's): a batch records the file as failed for this run but does not store it as failed."""
 
 
 @dataclass
@@ -156,8 +162,8 @@ def write_reports(
     stem: str | None = None,
 ) -> dict[str, Path]:
     """Write the certificate's reports as `<out_dir>/<stem>.html|.json|.records.csv|
-    .findings.csv` (stem: the PDF's name by default). A folder that cannot be written is an
-    InputError naming it, never a traceback."""
+    .findings.csv` (stem: the PDF's name by default). A folder that cannot be written is a
+    ReportWriteError (an InputError) naming it, never a traceback."""
     from reports.csvout import write_csv
     from reports.html import write_html
     from reports.jsonout import write_json
@@ -179,8 +185,9 @@ def write_reports(
             outputs["records_csv"], outputs["findings_csv"] = Path(records), Path(findings)
     except OSError as exc:
         where = exc.filename or out_dir
-        raise InputError(str(result.source),
-                         f"cannot write its reports to {where}: {exc.strerror or exc}") from None
+        why = exc.strerror or exc
+        raise ReportWriteError(str(result.source),
+                               f"cannot write its reports to {where}: {why}") from None
     return outputs
 
 

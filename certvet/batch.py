@@ -18,17 +18,19 @@ How a run goes:
    certificate's own reports (``<stem>-<sha8>.html|json|csv`` in ``out_dir/certificates``).
 4. This process alone writes the store: one transaction per file, as each result arrives
    (``Corpus.add`` / ``Corpus.add_failure``). Killing the run at any moment loses nothing
-   already stored, and a re-run skips it (nothing is stored twice).
+   already stored, and a re-run skips it (nothing is stored twice). A file whose reports
+   could not be written (``ReportWriteError``: the output folder, not the PDF) is failed for
+   this run but not stored, so the next run audits it again.
 5. After the files: the cross-certificate checks of certvet.corpus.crosscheck (copied
    schedules, repeats at an address, reused numbers, workload) for every certificate of this
    batch's inputs — audited now or earlier, so a resumed run reports what one uninterrupted
    run would — become findings of the batch (``cross-findings.csv`` / ``.json``). The HTML and
    JSON reports of every certificate with such a finding are re-written with them (section
    "Compared with other certificates", a line in the verdict box, a link to the other
-   certificate's report): the certificate, findings and check runs come back from the store,
-   so a certificate skipped in this run whose reports are in ``out_dir/certificates`` gains the
-   section too (``rewrite_related_reports``). Then the portfolio page is written
-   (``out_dir/portfolio.html``).
+   certificate's report): the certificate, findings, check runs and the rule profile it was
+   audited with come back from the store, so a certificate skipped in this run whose reports
+   are in ``out_dir/certificates`` gains the section too (``rewrite_related_reports``). Then
+   the portfolio page is written (``out_dir/portfolio.html``).
 
 Every input ends in exactly one of ``audited``, ``skipped`` or ``failed`` (with a one-line
 reason naming the file): ``len(report.outcomes) == len(inputs)``.
@@ -44,7 +46,7 @@ import csv
 import json
 import os
 from collections.abc import Callable, Iterable, Iterator, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from enum import StrEnum
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -372,7 +374,11 @@ def _warm_up_certificate() -> Any:
 
 
 def _store_outcome(corpus: Corpus, oc: Outcome, sha: str) -> FileOutcome:
-    """Write one result to the store (one transaction) and say how the file ended."""
+    """Write one result to the store (one transaction) and say how the file ended.
+
+    A file whose reports could not be written (ReportWriteError: the output folder's fault,
+    not the PDF's) is failed for this run but not stored, so the next run audits it again."""
+    from certvet.api import ReportWriteError
     from certvet.corpus.store import CorpusError
 
     if oc.error is None and oc.result is not None:
@@ -389,8 +395,8 @@ def _store_outcome(corpus: Corpus, oc: Outcome, sha: str) -> FileOutcome:
                                findings=len(counted), breach=res.has_breach,
                                reports=dict(res.outputs))
     reason = _one_line(oc.error or f"{oc.path}: no result")
-    layout = None
-    corpus.add_failure(sha, str(oc.path), reason, layout=layout)
+    if not isinstance(oc.exception, ReportWriteError):
+        corpus.add_failure(sha, str(oc.path), reason)
     return FileOutcome(oc.path, Status.FAILED, sha, reason=reason)
 
 
@@ -490,9 +496,11 @@ def rewrite_related_reports(
 ) -> list[Path]:
     """Re-write the HTML and JSON reports of every certificate with a cross-certificate
     finding, with the findings in them (section "Compared with other certificates"). The
-    certificate, its findings and check runs come back from the store, so certificates
-    audited in an earlier run are covered too, when their reports are in `reports_dir`.
-    Returns the files written; a report that cannot be written is left as it was."""
+    certificate, its findings, check runs and the rule profile it was audited with come back
+    from the store, so certificates audited in an earlier run are covered too, when their
+    reports are in `reports_dir`. `profile` (this run's) stands in for a certificate stored
+    before profiles were recorded, and its report says so. Returns the files written; a
+    report that cannot be written is left as it was."""
     from datetime import datetime
 
     from certvet import __version__
@@ -523,21 +531,30 @@ def rewrite_related_reports(
         if html is None:
             continue  # never reported into this folder
         cert = corpus.certificate(cid)
-        results = CheckResults(profile, corpus.check_runs(cid), corpus.findings(cid))
+        used = corpus.profile(cid) or _unrecorded(profile)
+        results = CheckResults(used, corpus.check_runs(cid), corpus.findings(cid))
         stored = files.get(cert.sha256)
         when = datetime.fromisoformat(stored.audited_at) if stored else None
         try:
             written.append(write_html(
-                cert, results, html, certvet_version=__version__, profile=profile,
+                cert, results, html, certvet_version=__version__, profile=used,
                 generated_at=when.strftime("%Y-%m-%d %H:%M UTC") if when else None,
                 related=related))
             written.append(write_json(
                 cert, results, html.with_suffix(".json"), certvet_version=__version__,
-                profile=profile, generated_at=when.isoformat() if when else None,
+                profile=used, generated_at=when.isoformat() if when else None,
                 related=related))
         except OSError:
             continue
     return written
+
+
+def _unrecorded(profile: Profile) -> Profile:
+    """This run's profile, standing in for one the store did not record (a certificate
+    stored before schema version 2): the report's profile line says so."""
+    note = "not recorded with this certificate; this run's profile shown"
+    text = f"{profile.description}; {note}" if profile.description else note
+    return replace(profile, description=text)
 
 
 def write_cross_findings(found: Sequence[CrossFinding], out_dir: Path) -> tuple[Path, Path]:

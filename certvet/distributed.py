@@ -25,15 +25,16 @@ from pathlib import Path
 from typing import Any
 
 from certvet.workers import Limits, Outcome
+from extractor.errors import InputError
 
 IN_FLIGHT_PER_WORKER = 2  # tasks submitted ahead per worker: bounds the client's memory
 
 
-def remote_audit(job: Any, name: str, data: bytes) -> tuple[str, Any, dict[str, bytes]]:
-    """Runs on a worker: ("ok", AuditResult, {report file name: bytes}) or ("error", reason, {})."""
+def remote_audit(job: Any, name: str, data: bytes
+                 ) -> tuple[str, Any, dict[str, bytes], InputError | None]:
+    """Runs on a worker: ("ok", AuditResult, {report file name: bytes}, None) or
+    ("error", reason, {}, the InputError behind it or None)."""
     from dataclasses import replace
-
-    from extractor.errors import InputError
 
     original = Path(name)
     with tempfile.TemporaryDirectory(prefix="certvet-") as tmp:
@@ -53,11 +54,16 @@ def remote_audit(job: Any, name: str, data: bytes) -> tuple[str, Any, dict[str, 
                 files = {key: p.read_bytes() for key, p in written.items()}
                 result.outputs = {key: Path(job.reports_dir) / p.name
                                   for key, p in written.items()}
-            return "ok", result, files
+            return "ok", result, files, None
         except InputError as exc:
-            return "error", str(exc).replace(str(pdf), str(original)), {}
+            try:  # the same error, naming the client's file
+                named = type(exc)(str(original), exc.reason.replace(str(pdf), str(original)))
+            except Exception:
+                named = None
+            return "error", str(exc).replace(str(pdf), str(original)), {}, named
         except Exception as exc:  # a bug must not lose the rest of the batch
-            return "error", f"{original}: internal error ({type(exc).__name__}: {exc})", {}
+            return ("error", f"{original}: internal error ({type(exc).__name__}: {exc})", {},
+                    None)
 
 
 def run_on_cluster(
@@ -139,15 +145,22 @@ def _next_done(ac: Any, ready: list[Any], started: dict[Any, tuple[Path, float]]
 
 def _outcome(fut: Any, path: Path, job: Any) -> Outcome:
     try:
-        status, payload, files = fut.result()
+        status, payload, files, error = fut.result()
     except Exception as exc:  # the worker died, or the task could not run
         reason = " ".join(f"{type(exc).__name__}: {exc}".split())
         return Outcome(path, None, f"{path}: failed on the cluster ({reason})")
     if status != "ok":
-        return Outcome(path, None, " ".join(str(payload).split()))
+        return Outcome(path, None, " ".join(str(payload).split()), error)
     if files and job.reports_dir is not None:
+        from certvet.api import ReportWriteError
+
         out = Path(job.reports_dir)
-        out.mkdir(parents=True, exist_ok=True)
-        for key, data in files.items():
-            (out / payload.outputs[key].name).write_bytes(data)
+        try:
+            out.mkdir(parents=True, exist_ok=True)
+            for key, data in files.items():
+                (out / payload.outputs[key].name).write_bytes(data)
+        except OSError as exc:
+            err = ReportWriteError(str(path), f"cannot write its reports to "
+                                              f"{exc.filename or out}: {exc.strerror or exc}")
+            return Outcome(path, None, " ".join(str(err).split()), err)
     return Outcome(path, payload, None)

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import multiprocessing as mp
 import os
+import pickle
 import traceback
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
@@ -32,6 +33,9 @@ class Outcome:
     path: Path
     result: Any | None  # certvet.api.AuditResult when audited
     error: str | None  # one line naming the file, when failed
+    # the InputError behind `error`, when it was one (pickled back from the child or worker):
+    # lets the batch tell a report folder it cannot write (ReportWriteError) from a bad PDF
+    exception: InputError | None = None
 
 
 def _child(conn: Connection, job: Callable[[Path], Any], path: Path, memory_mb: int) -> None:
@@ -42,15 +46,21 @@ def _child(conn: Connection, job: Callable[[Path], Any], path: Path, memory_mb: 
             limit = memory_mb * 1024 * 1024
             resource.setrlimit(resource.RLIMIT_AS, (limit, limit))
         result = job(path)
-        conn.send(("ok", result))
+        conn.send(("ok", result, None))
     except InputError as exc:
-        conn.send(("error", str(exc)))
+        try:  # sent only when it comes back whole: the parent must never fail to unpickle
+            pickle.loads(pickle.dumps(exc))
+            sent: InputError | None = exc
+        except Exception:  # its message is enough
+            sent = None
+        conn.send(("error", str(exc), sent))
     except MemoryError:
-        conn.send(("error", f"{path}: stopped: used more than the memory limit"))
+        conn.send(("error", f"{path}: stopped: used more than the memory limit", None))
     except BaseException as exc:  # a bug must not lose the rest of the batch
         last = traceback.extract_tb(exc.__traceback__)[-1:] if exc.__traceback__ else []
         where = f" at {last[0].filename}:{last[0].lineno}" if last else ""
-        conn.send(("error", f"{path}: internal error ({type(exc).__name__}: {exc}){where}"))
+        conn.send(("error", f"{path}: internal error ({type(exc).__name__}: {exc}){where}",
+                   None))
     finally:
         conn.close()
 
@@ -86,7 +96,7 @@ def run_isolated(
         for conn in ready:
             path, proc, _ = running.pop(conn)
             try:
-                status, payload = conn.recv()
+                status, payload, exc = conn.recv()
             except (EOFError, OSError):
                 proc.join(1)
                 code = proc.exitcode
@@ -103,7 +113,7 @@ def run_isolated(
             if status == "ok":
                 yield Outcome(path, payload, None)
             else:
-                yield Outcome(path, None, payload)
+                yield Outcome(path, None, payload, exc)
         now = time.monotonic()
         for conn, (path, proc, start) in list(running.items()):
             if now - start >= limits.seconds:

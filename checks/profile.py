@@ -55,6 +55,36 @@ class Profile:
         opts = cls.Options(**s.options) if s.options else cls.Options()
         return cls(opts, s.severity)
 
+    def to_dict(self) -> dict[str, Any]:
+        """Plain JSON-able data (as stored in the corpus); `from_dict` rebuilds the profile."""
+        return {
+            "name": self.name,
+            "description": self.description,
+            "path": self.path,
+            "checks": {
+                cid: {"enabled": s.enabled,
+                      "severity": s.severity.slug if s.severity is not None else None,
+                      "options": dict(s.options)}
+                for cid, s in self.checks.items()
+            },
+        }
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> Profile:
+        """The profile `to_dict` gave. Not validated against today's checks: a stored profile
+        may name a check or option since removed, and is only shown, never run."""
+        checks = {
+            cid: CheckSettings(
+                enabled=bool(s.get("enabled", True)),
+                severity=Severity.parse(s["severity"]) if s.get("severity") else None,
+                options=dict(s.get("options") or {}),
+            )
+            for cid, s in (data.get("checks") or {}).items()
+        }
+        return cls(name=str(data.get("name", "default")),
+                   description=str(data.get("description", "")),
+                   path=data.get("path"), checks=checks)
+
 
 DEFAULT_PROFILE = Profile()
 

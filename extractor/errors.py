@@ -11,6 +11,11 @@ class InputError(Exception):
         self.path = path
         self.reason = reason
 
+    def __reduce__(self) -> tuple[type[InputError], tuple[str, str]]:
+        # pickle (forked workers, Dask) rebuilds from (path, reason), not from the joined
+        # message in `args`, which the two-argument __init__ would not accept
+        return type(self), (self.path, self.reason)
+
 
 class NoLayoutMatches(InputError):
     """No layout recognised the file, or the chosen layout found no schedule in it."""

@@ -8,7 +8,9 @@ the same bytes twice (in a subfolder), a file that is not a PDF and a zero-byte 
 
 from __future__ import annotations
 
+import dataclasses
 import os
+import pickle
 import random
 import shutil
 import signal
@@ -220,3 +222,100 @@ def test_killed_run_resumes_to_the_same_corpus(batch_dir: Path, first_run, tmp_p
     assert snapshot(store) == snapshot(work / "corpus.sqlite")
     assert [cf.finding for cf in resumed.cross_findings] == [
         cf.finding for cf in first_run[0].cross_findings]
+
+
+# --- a report folder that cannot be written is not the PDF's failure ------------------------
+
+
+def _report_write_job(path: Path) -> str:
+    from certvet.api import ReportWriteError
+
+    raise ReportWriteError(str(path), "cannot write its reports to /out: Permission denied")
+
+
+@dataclasses.dataclass(frozen=True)
+class _RemoteJob:  # what remote_audit needs of an AuditJob: a dataclass with these fields
+    reports_dir: Path | None = None
+    profile: object = None
+
+    def __call__(self, path: Path) -> object:
+        from certvet.api import ReportWriteError
+
+        raise ReportWriteError(str(path), f"cannot write its reports to {path.parent}: no")
+
+
+def test_report_write_error_pickles_with_its_class_and_message() -> None:
+    from certvet.api import ReportWriteError
+    from extractor.errors import InputError, NoLayoutMatches
+
+    for exc in (ReportWriteError("a b.pdf", "cannot write its reports to out: Read-only"),
+                InputError("x.pdf", "not a PDF"), NoLayoutMatches("y.pdf", "no layout")):
+        back = pickle.loads(pickle.dumps(exc))
+        assert type(back) is type(exc)
+        assert (str(back), back.path, back.reason) == (str(exc), exc.path, exc.reason)
+
+
+def test_report_write_error_survives_a_forked_worker_and_a_dask_task(tmp_path: Path) -> None:
+    from certvet.api import ReportWriteError
+    from certvet.distributed import remote_audit
+    from certvet.workers import run_isolated
+
+    (oc,) = run_isolated([tmp_path / "c.pdf"], _report_write_job, workers=1)
+    assert isinstance(oc.exception, ReportWriteError)
+    assert oc.error == str(oc.exception) == (
+        f"{tmp_path / 'c.pdf'}: cannot write its reports to /out: Permission denied")
+    # a Dask task's answer is pickled back to the client
+    status, reason, files, exc = pickle.loads(pickle.dumps(
+        remote_audit(_RemoteJob(), "/inbox/c.pdf", b"%PDF-")))
+    assert (status, files) == ("error", {})
+    assert isinstance(exc, ReportWriteError) and exc.path == "/inbox/c.pdf"
+    assert str(exc).startswith("/inbox/c.pdf: cannot write its reports")
+
+
+def test_dask_client_that_cannot_write_the_reports_fails_the_file(tmp_path: Path) -> None:
+    from types import SimpleNamespace
+
+    from certvet.api import ReportWriteError
+    from certvet.distributed import _outcome
+
+    (tmp_path / "certificates").write_text("a file in the folder's way")
+    result = SimpleNamespace(outputs={"html": tmp_path / "certificates" / "c.html"})
+    fut = SimpleNamespace(result=lambda: ("ok", result, {"html": b"<html>"}, None))
+    job = SimpleNamespace(reports_dir=tmp_path / "certificates")
+    oc = _outcome(fut, tmp_path / "c.pdf", job)
+    assert oc.result is None and isinstance(oc.exception, ReportWriteError)
+    assert oc.error is not None and "cannot write its reports" in oc.error
+
+
+def test_store_outcome_does_not_store_a_report_write_failure(tmp_path: Path) -> None:
+    from certvet.api import ReportWriteError
+    from certvet.batch import _store_outcome
+    from certvet.corpus.store import Corpus
+    from certvet.workers import Outcome
+    from extractor.errors import InputError
+
+    pdf = tmp_path / "c.pdf"
+    err = ReportWriteError(str(pdf), "cannot write its reports to out: Read-only file system")
+    bad = InputError(str(pdf), "not a PDF (no %PDF header)")
+    with Corpus(tmp_path / "c.sqlite") as corpus:
+        o = _store_outcome(corpus, Outcome(pdf, None, str(err), err), "a" * 64)
+        assert o.status is Status.FAILED and o.reason == str(err)
+        assert not corpus.has("a" * 64)  # the next run audits it again
+        o = _store_outcome(corpus, Outcome(pdf, None, str(bad), bad), "b" * 64)
+        assert o.status is Status.FAILED and corpus.has("b" * 64)  # a bad PDF is remembered
+
+
+def test_batch_whose_reports_folder_is_blocked_audits_again_later(tmp_path: Path) -> None:
+    pdf = DEMO_DIR / "grid-clean-01.pdf"
+    out = tmp_path / "out"
+    out.mkdir()
+    (out / "certificates").write_text("a file where the reports folder should be")
+    kw = dict(layouts=load_layouts([DEMO_LAYOUTS]), store=tmp_path / "c.sqlite", out_dir=out,
+              workers=1, portfolio=False)
+    first = run_batch([pdf], **kw)
+    assert first.totals == {"audited": 0, "skipped": 0, "failed": 1}
+    assert "cannot write its reports" in (first.outcomes[0].reason or "")
+    assert first.exit_code == 3
+    (out / "certificates").unlink()
+    second = run_batch([pdf], **kw)
+    assert second.totals == {"audited": 1, "skipped": 0, "failed": 0}

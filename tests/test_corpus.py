@@ -210,3 +210,22 @@ def test_normalisation() -> None:
     assert parse_date("03/02/2024").isoformat() == "2024-02-03"
     assert parse_date("2024-02-03").isoformat() == "2024-02-03"
     assert parse_date("soon") is None
+
+
+def test_version_1_store_gains_the_profile_columns(tmp_path: Path) -> None:
+    from certvet.corpus.migrations import MIGRATIONS
+    from certvet.corpus.store import _statements
+
+    path = tmp_path / "v1.sqlite"
+    conn = sqlite3.connect(path)
+    conn.execute("CREATE TABLE schema_version (version INTEGER PRIMARY KEY, "
+                 "description TEXT NOT NULL, applied_at TEXT NOT NULL)")
+    for stmt in _statements(MIGRATIONS[0][2]):
+        conn.execute(stmt)
+    conn.execute("INSERT INTO schema_version VALUES (1, 'v1', 'x')")
+    conn.commit()
+    conn.close()
+    with Corpus(path) as corpus:
+        assert corpus.schema_version == LATEST >= 2
+        cols = {r[1] for r in corpus.conn.execute("PRAGMA table_info(certificates)")}
+        assert {"profile_name", "profile"} <= cols

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import json
 import random
+import sqlite3
 import sys
 from pathlib import Path
 from urllib.parse import unquote
@@ -183,3 +184,56 @@ def test_hostile_fields_of_a_copied_certificate_in_a_batch(tmp_path: Path) -> No
     assert "<script>alert(1)</script> Row" in section.text()
     assert "&lt;script&gt;alert(1)&lt;/script&gt; Row" in html
     assert 'onerror="alert(2)"' in section.one("tr", **{"class": "other"}).text()
+
+
+def test_rewritten_report_keeps_the_profile_the_certificate_was_audited_with(
+        tmp_path: Path) -> None:
+    """Audited with the strict profile; a later run with the default profile adds a copy of
+    grid-faulty-03 (same number: a new cross finding for the stored certificate), whose
+    re-written reports still name the strict profile and its settings."""
+    from checks.profile import load_profile
+
+    faulty = "grid-faulty-03"
+    demo = tmp_path / "demo"
+    demo.mkdir()
+    for pdf in DEMO_DIR.glob("*.pdf"):
+        (demo / pdf.name).write_bytes(pdf.read_bytes())
+    kw = dict(layouts=load_layouts([DEMO_LAYOUTS]), store=tmp_path / "c.sqlite",
+              out_dir=tmp_path / "out", workers=2, portfolio=False)
+    strict = load_profile(REPO / "fixtures" / "profiles" / "strict-desk-audit.toml")
+    first = run_batch([demo], profile=strict, **kw)
+    assert not any(cf.finding.certificate == "GL-2026-0433" for cf in first.cross_findings)
+    extra = tmp_path / "extra"
+    extra.mkdir()
+    (extra / "copy-of-faulty.pdf").write_bytes(
+        (demo / f"{faulty}.pdf").read_bytes() + b"\n% another copy\n")
+    second = run_batch([demo, extra], **kw)  # the default profile
+    status = {o.path.stem: o.status for o in second.outcomes}
+    assert status[faulty] is Status.SKIPPED and status["copy-of-faulty"] is Status.AUDITED
+    html = _html(tmp_path / "out", faulty)
+    assert html in second.related_reports and html.with_suffix(".json") in second.related_reports
+    doc = json.loads(html.with_suffix(".json").read_text(encoding="utf-8"))
+    assert any(r["finding"]["check_id"] == "certificate-number-reused" for r in doc["related"])
+    prof = doc["profile"]
+    assert prof["name"] == "strict-desk-audit"
+    assert prof["checks"]["ring-rn-matches-r1"]["options"] == {"tolerance_ohm": 0.03}
+    assert prof["checks"]["ring-all-exact-quarter"]["options"] == {"min_rings": 2}
+    assert prof["checks"]["zs-all-exactly-calculated"]["severity"] == "breach"
+    assert prof["checks"]["ir-worth-investigating"]["enabled"] is False
+    page = html.read_text(encoding="utf-8")
+    assert "Rule profile <b>strict-desk-audit</b>" in page
+    copy_doc = json.loads(_html(tmp_path / "out", "copy-of-faulty").with_suffix(".json")
+                          .read_text(encoding="utf-8"))
+    assert copy_doc["profile"]["name"] == "default"  # audited in the second run
+
+    # a certificate stored before profiles were recorded: this run's profile, said so
+    with sqlite3.connect(tmp_path / "c.sqlite") as conn:
+        conn.execute("UPDATE certificates SET profile = NULL, profile_name = NULL "
+                     "WHERE cert_number = 'GL-2026-0433' AND sha256 NOT IN "
+                     "(SELECT sha256 FROM files WHERE path LIKE '%copy-of-faulty.pdf')")
+    conn.close()
+    run_batch([demo, extra], **kw)
+    prof = json.loads(html.with_suffix(".json").read_text(encoding="utf-8"))["profile"]
+    assert prof["name"] == "default" and prof["checks"] == {}
+    assert "not recorded with this certificate" in prof["description"]
+    assert "not recorded with this certificate" in html.read_text(encoding="utf-8")

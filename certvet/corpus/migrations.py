@@ -165,8 +165,17 @@ CREATE TABLE meta (
 );
 """
 
+# the rule profile each certificate was audited with, so reports re-written later (cross-
+# certificate findings) show it rather than the later run's; NULL for certificates stored
+# before this migration
+_V2 = """
+ALTER TABLE certificates ADD COLUMN profile_name TEXT;
+ALTER TABLE certificates ADD COLUMN profile TEXT  -- JSON: checks.profile.Profile.to_dict()
+"""
+
 MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (1, "files, certificates, boards, circuits, findings, similarity index", _V1),
+    (2, "certificates: rule profile used (profile_name, profile JSON)", _V2),
 )
 
 LATEST = MIGRATIONS[-1][0]

@@ -39,6 +39,7 @@ from certvet.corpus.similarity import (
     stored_boards,
 )
 from checks.model import CheckRun, Finding, Outcome, Severity
+from checks.profile import Profile
 from checks.runner import CheckResults
 from extractor.fields import BOARD, CERTIFICATE, FIELDS, FieldSpec
 from extractor.records import (
@@ -385,6 +386,8 @@ class Corpus:
             "n_circuits": sum(len(b.circuits) for b in cert.boards),
             "n_tested": sum(len(b.circuits) for b in boards),
             "page_count": cert.page_count,
+            "profile_name": results.profile.name,
+            "profile": json.dumps(results.profile.to_dict(), default=str),
             **self._wide("certificates", cert.cells),
         }
         cert_id = self._insert("certificates", row)
@@ -470,6 +473,16 @@ class Corpus:
                     related=tuple(json.loads(r[17])),
                 ))
         return out
+
+    def profile(self, cert_id: int) -> Profile | None:
+        """The rule profile the certificate was audited with; None when not recorded (stored
+        before schema version 2)."""
+        with self._guard("read"):
+            row = self.conn.execute(
+                "SELECT profile FROM certificates WHERE id = ?", (cert_id,)).fetchone()
+        if row is None:
+            raise KeyError(cert_id)
+        return Profile.from_dict(json.loads(row[0])) if row[0] else None
 
     def check_runs(self, cert_id: int) -> list[CheckRun]:
         """The stored check runs of one certificate, in the order they ran."""
