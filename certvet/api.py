@@ -10,7 +10,6 @@ so importing this module — and the CLI's --help — stays fast.
 
 from __future__ import annotations
 
-import hashlib
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -35,7 +34,6 @@ __all__ = [
     "ReportWriteError",
     "audit_file",
     "audit_many",
-    "choose_layout",
     "demo_inputs",
     "expand_inputs",
     "load_layout",
@@ -89,27 +87,6 @@ class BatchSummary:
     @property
     def total(self) -> int:
         return len(self.audited) + len(self.failed)
-
-
-def file_sha256(path: Path) -> str:
-    h = hashlib.sha256()
-    with path.open("rb") as fh:
-        for block in iter(lambda: fh.read(1 << 20), b""):
-            h.update(block)
-    return h.hexdigest()
-
-
-def choose_layout(pdf: Path, layouts: Sequence[Layout], password: str | None = None) -> Layout:
-    """The first layout whose recognition rule matches the file."""
-    from extractor.api import recognise
-
-    if not layouts:
-        raise NoLayoutMatches(str(pdf), "no layout given (use --layout or --layouts)")
-    found = recognise(str(pdf), list(layouts), password=password)
-    if found is None:
-        names = ", ".join(lay.name for lay in layouts)
-        raise NoLayoutMatches(str(pdf), f"no layout recognises this form (tried: {names})")
-    return found
 
 
 def audit_file(

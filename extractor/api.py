@@ -76,10 +76,7 @@ def page_text(
     """Plain text of each page (lines of horizontal words top to bottom), first `pages` pages."""
     doc = open_document(path, engine, password)
     try:
-        return [
-            "\n".join(ln.text for ln in group_lines(p.words, 3.0))
-            for p in _pages_checked(path, doc, pages)
-        ]
+        return [_text_of_page(p) for p in _pages_checked(path, doc, pages)]
     finally:
         doc.close()
 
@@ -91,7 +88,17 @@ def recognise(
     if not layouts:
         return None
     most = max(lay.recognise.pages for lay in layouts)
-    texts = page_text(path, pages=most, password=password)
+    return _first_recognising(page_text(path, pages=most, password=password), layouts)
+
+
+def _text_of_page(page: PageContent) -> str:
+    """Plain text of a page: lines of horizontal words, top to bottom."""
+    return "\n".join(ln.text for ln in group_lines(page.words, 3.0))
+
+
+def _first_recognising(texts: Sequence[str], layouts: Sequence[Layout]) -> Layout | None:
+    """The first layout whose `recognise.require` patterns all match the text of its first
+    `recognise.pages` pages (texts: one string per page, from the first page on)."""
     for lay in layouts:
         text = "\n".join(texts[: lay.recognise.pages])
         if all(p.search(text) for p in lay.recognise.require):
@@ -173,13 +180,8 @@ def extract_recognised(
             first.append(page)
             if len(first) >= most:
                 break
-        texts = ["\n".join(ln.text for ln in group_lines(p.words, 3.0)) for p in first]
-        chosen = None
-        for lay in layouts:
-            text = "\n".join(texts[: lay.recognise.pages])
-            if all(p.search(text) for p in lay.recognise.require):
-                chosen = lay
-                break
+        texts = [_text_of_page(p) for p in first]
+        chosen = _first_recognising(texts, layouts)
         if chosen is None:
             if not any(p.char_count for p in first):
                 for _ in pages:  # reading on raises the clear "no text layer" error
