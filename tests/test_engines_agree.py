@@ -20,12 +20,10 @@ import json
 from pathlib import Path
 
 import pytest
+from recordkit import assert_engines_agree, engine_pages, record_rows
 
 from extractor.api import extract
-from extractor.engines.pdfium import PdfiumEngine
-from extractor.engines.plumber import PlumberEngine
 from extractor.layout import load_layout
-from extractor.records import Box, Certificate
 
 ROOT = Path(__file__).resolve().parents[1]
 TRUTHED = sorted(
@@ -71,32 +69,14 @@ def _layout_for(pdf: Path):  # -> Layout
     return load_layout(ROOT / "fixtures" / "hostile" / "layouts" / "hostile-grid.toml")
 
 
-def _pages(pdf: Path):  # -> list of (plumber page, pdfium page)
-    a, b = PlumberEngine().open(str(pdf)), PdfiumEngine().open(str(pdf))
-    try:
-        return list(zip(a.pages(), b.pages(), strict=True))
-    finally:
-        a.close()
-        b.close()
-
-
 @pytest.mark.parametrize("pdf", ALL, ids=_ids(ALL))
 def test_same_words(pdf: Path) -> None:
-    for pa, pb in _pages(pdf):
-        assert (pa.number, pa.rotation) == (pb.number, pb.rotation)
-        assert pa.width == pytest.approx(pb.width, abs=0.01)
-        assert pa.height == pytest.approx(pb.height, abs=0.01)
-        ka = [(w.text, w.vertical, w.direction) for w in pa.words]
-        kb = [(w.text, w.vertical, w.direction) for w in pb.words]
-        assert ka == kb, pa.number
-        for wa, wb in zip(pa.words, pb.words, strict=True):
-            drift = max(abs(getattr(wa, e) - getattr(wb, e)) for e in ("x0", "top", "x1", "bottom"))
-            assert drift < BOX_TOLERANCE, (pa.number, wa, wb)
+    assert_engines_agree(pdf, BOX_TOLERANCE)
 
 
 @pytest.mark.parametrize("pdf", _box_params(ALL))
 def test_same_word_boxes_to_the_hundredth(pdf: Path) -> None:
-    for pa, pb in _pages(pdf):
+    for pa, pb in engine_pages(pdf):
         for wa, wb in zip(pa.words, pb.words, strict=True):
             for edge in ("x0", "top", "x1", "bottom"):
                 assert getattr(wa, edge) == pytest.approx(getattr(wb, edge), abs=0.01), (
@@ -106,7 +86,7 @@ def test_same_word_boxes_to_the_hundredth(pdf: Path) -> None:
 def test_symbol_and_rotated_text_read_as_printed() -> None:
     """The cases the engines used to disagree on, read right by both."""
     for pdf in ("boxed-sample.pdf", "rotated-page-boxed.pdf"):
-        for pa, pb in _pages(ROOT / "fixtures" / "forms_extra" / pdf):
+        for pa, pb in engine_pages(ROOT / "fixtures" / "forms_extra" / pdf):
             if pa.number != 2:
                 continue
             for page in (pa, pb):
@@ -117,32 +97,13 @@ def test_symbol_and_rotated_text_read_as_printed() -> None:
                 assert page.words[0].text == "Schedule" and not page.words[0].vertical
 
 
-def _box(box: Box | None) -> tuple[float, ...] | None:
-    if box is None:
-        return None
-    return (box.page, box.x0, box.top, box.x1, box.bottom)
-
-
-def _records(cert: Certificate) -> list[tuple[object, ...]]:
-    rows: list[tuple[object, ...]] = []
-    for name, cell in sorted(cert.cells.items()):
-        rows.append(("cert", name, cell.value.to_dict(), _box(cell.box)))
-    for board in cert.boards:
-        for name, cell in sorted(board.cells.items()):
-            rows.append(("board", board.ref, name, cell.value.to_dict(), _box(cell.box)))
-        for circuit in board.circuits:
-            for name, cell in sorted(circuit.cells.items()):
-                rows.append((board.ref, circuit.ref, name, cell.value.to_dict(), _box(cell.box)))
-    return rows
-
-
 @pytest.mark.parametrize("pdf", ALL, ids=_ids(ALL))
 def test_same_certificate(pdf: Path) -> None:
     layout = _layout_for(pdf)
     a = extract(str(pdf), layout, engine="pdfplumber")
     b = extract(str(pdf), layout, engine="pdfium")
     assert a.page_count == b.page_count
-    ra, rb = _records(a), _records(b)
+    ra, rb = record_rows(a), record_rows(b)
     assert ra, "nothing extracted"
     assert [r[:-1] for r in ra] == [r[:-1] for r in rb]  # same cells, kinds, values, raw text
     for x, y in zip(ra, rb, strict=True):

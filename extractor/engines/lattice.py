@@ -8,7 +8,9 @@ from the pdfplumber engine's words, so the shared assembler sees a whole page.
 
 Coordinates: camelot reports PDF user space (origin bottom-left); converted here to our
 top-left convention (top = page height − y). Pages with /Rotate are not converted by camelot,
-so on those pages this engine keeps the pdfplumber words (said in `PageContent`-level notes).
+and on pages whose CropBox is not the whole MediaBox (or whose MediaBox does not start at 0)
+camelot's coordinates are not the displayed page's: on those pages this engine keeps the
+pdfplumber words.
 
 Measured facts (camelot 2.0): `engine='vector'` with `layout_kwargs={'boxes_flow': None}` is
 fast and reads ruled tables right; camelot returns an empty string for a tick drawn in the
@@ -118,7 +120,19 @@ class LatticeDocument:
 
     def pages(self) -> Iterator[PageContent]:
         for page in self._base.pages():
+            if not self._plain_frame(page.number):
+                yield page  # camelot's coordinates are not the displayed page's: keep the words
+                continue
             yield convert_page(page, self._tables.get(page.number, []))
+
+    def _plain_frame(self, number: int) -> bool:
+        """Whether page `number` shows its whole MediaBox, starting at (0, 0): only there do
+        camelot's coordinates (MediaBox space) convert to ours by flipping y."""
+        obj = self._base.page_obj(number)
+        media = [float(v) for v in obj.mediabox]
+        crop = [float(v) for v in (obj.cropbox or obj.mediabox)]
+        return media[:2] == [0.0, 0.0] and all(abs(a - b) < 0.01 for a, b in zip(media, crop,
+                                                                                 strict=True))
 
     def close(self) -> None:
         self._base.close()

@@ -37,7 +37,13 @@ from typing import Any
 
 from extractor.engines.base import PageContent, Rule
 from extractor.engines.plumber import SAME, axis_rectangle, check_pdf_file, rect_rules
-from extractor.engines.words import Char, build_words, char_direction
+from extractor.engines.words import (
+    CONTROL_CHARS,
+    UNREADABLE,
+    Char,
+    build_words,
+    char_direction,
+)
 from extractor.errors import InputError
 
 # Descent (thousandths of an em) pdfminer uses for the 14 standard fonts and their common
@@ -53,8 +59,14 @@ _STANDARD_DESCENT = {
     "ZapfDingbats": 0.0,
 }
 
-_UNREADABLE = "\ufffd"
-_BAD_TEXT = frozenset(("\ufffe", "\uffff", "\x00", _UNREADABLE))
+_UNREADABLE = UNREADABLE
+# no text: control chars (a broken text map gives them, e.g. MuPDF's for a Symbol-font Δ),
+# U+FFFF, and PDFium's own mark for a char without a map
+_BAD_TEXT = frozenset((*CONTROL_CHARS, "\uffff", _UNREADABLE))
+# PDFium reports a hyphen drawn at the end of a line as U+FFFE in the page's text: the glyph
+# drawn is a hyphen, which is what pdfminer reports.
+_HYPHEN_AT_BREAK = frozenset(("\ufffe",))
+_SPECIAL_TEXT = _BAD_TEXT | _HYPHEN_AT_BREAK
 
 
 def _standard_descent(name: str) -> float | None:
@@ -284,6 +296,8 @@ class _Reader:
         # per text object: upright text on an unrotated page (nearly every char) needs no
         # corner transform
         upright = False
+        pending: tuple[int, float, float, int] | None = None  # an unreadable char: index,
+        # origin, text object
         a = b = c = d = fs = descent = 0.0
         fontname = direction = ""
         for i in range(n):
@@ -291,7 +305,13 @@ class _Reader:
             if key is None:  # a char PDFium generated (line break, implied space)
                 continue
             ch = text[i]
-            if ch in _BAD_TEXT or map_error(tp_address, i):
+            if ch in _SPECIAL_TEXT:
+                if ch in _HYPHEN_AT_BREAK and not map_error(tp_address, i):
+                    ch = "-"
+                else:  # (U+FFFE with a map error: a glyph with no text, not a hyphen)
+                    ch = _UNREADABLE
+                    unreadable += 1
+            elif map_error(tp_address, i):
                 ch = _UNREADABLE
                 unreadable += 1
             get_origin(tp_address, i, ox_ref, oy_ref)
@@ -306,16 +326,39 @@ class _Reader:
                 widths = self.widths.setdefault(fkey, {})
                 upright = fast and b == 0.0 and c == 0.0 and a > 0.0 and d > 0.0
                 last_key = key
-            elif x == last_x and y == last_y and out:
+            elif x == last_x and y == last_y and out and not ch.isspace() \
+                    and not out[-1].text.isspace():
                 # PDFium expands a ligature glyph (ﬃ) into several chars at one origin: keep
                 # one char, as pdfplumber does, spanning the glyph's loose box
                 prev = out[-1]
                 get_loose(tp, i, rect_ref)
-                lx0, _, lx1, _ = tf.box([rect.left, rect.right], [rect.bottom, rect.top])
-                out[-1] = Char(prev.text + ch, min(prev.x0, lx0), prev.top, max(prev.x1, lx1),
-                               prev.bottom, prev.size, prev.fontname, prev.upright, prev.direction)
+                lx0, ltop, lx1, lbottom = tf.box([rect.left, rect.right], [rect.bottom, rect.top])
+                if prev.direction in ("btt", "ttb"):  # widen along the reading direction only
+                    merged = Char(prev.text + ch, prev.x0, min(prev.top, ltop), prev.x1,
+                                  max(prev.bottom, lbottom), prev.size, prev.fontname,
+                                  prev.upright, prev.direction)
+                else:
+                    merged = Char(prev.text + ch, min(prev.x0, lx0), prev.top, max(prev.x1, lx1),
+                                  prev.bottom, prev.size, prev.fontname, prev.upright,
+                                  prev.direction)
+                out[-1] = merged
                 continue
             last_x, last_y = x, y
+            if pending is not None:
+                # the char before had no text, so its advance could not be looked up by text:
+                # it is the way from its origin to this one's (pdfminer's /Widths advance)
+                k, px, py, pkey = pending
+                pending = None
+                if pkey == key:
+                    adv = ((x - px) * a + (y - py) * b) / ((a * a + b * b) * fs or 1.0)
+                    if 0.0 < adv < 2.0:
+                        prev = out[k]
+                        bx0, btop, bx1, bbottom = _turned_box(point, px, py, adv, a, b, c, d,
+                                                              fs, descent)
+                        out[k] = Char(prev.text, bx0, btop, bx1, bbottom, bbottom - btop,
+                                      prev.fontname, prev.upright, prev.direction)
+            if ch == _UNREADABLE:
+                pending = (len(out), x, y, key)
             # the advance (em fraction) from the font's width table, cached per font and char
             width = widths.get(ch)
             if width is None:
@@ -329,17 +372,7 @@ class _Reader:
                 append(new_char(Char, (ch, x0, top, x0 + a * width * fs, bottom, bottom - top,
                                        fontname, True, direction)))
                 continue
-            ux, uy = a * width * fs, b * width * fs
-            vx, vy = c * fs, d * fs
-            bx, by = x + vx * descent, y + vy * descent
-            p0 = point(bx, by)
-            p1 = point(bx + ux, by + uy)
-            p2 = point(bx + vx, by + vy)
-            p3 = point(bx + ux + vx, by + uy + vy)
-            x0 = min(p0[0], p1[0], p2[0], p3[0])
-            x1 = max(p0[0], p1[0], p2[0], p3[0])
-            top = min(p0[1], p1[1], p2[1], p3[1])
-            bottom = max(p0[1], p1[1], p2[1], p3[1])
+            x0, top, x1, bottom = _turned_box(point, x, y, width, a, b, c, d, fs, descent)
             # as pdfplumber: upright text reads "ltr"; size is the extent along y
             append(Char(ch, x0, top, x1, bottom, bottom - top, fontname, direction == "ltr",
                         direction))
@@ -412,6 +445,22 @@ class _Reader:
         if ops:
             out.append(("".join(ops), pts))
         return out
+
+
+def _turned_box(point: Any, x: float, y: float, width: float, a: float, b: float, c: float,
+                d: float, fs: float, descent: float) -> tuple[float, float, float, float]:
+    """Displayed box (x0, top, x1, bottom) of a char at origin (x, y), `width` em wide, in a
+    text space with matrix (a, b, c, d) and font size `fs`: from the descent to descent + size
+    across the text direction, as pdfminer boxes chars."""
+    ux, uy = a * width * fs, b * width * fs
+    vx, vy = c * fs, d * fs
+    bx, by = x + vx * descent, y + vy * descent
+    p0 = point(bx, by)
+    p1 = point(bx + ux, by + uy)
+    p2 = point(bx + vx, by + vy)
+    p3 = point(bx + ux + vx, by + uy + vy)
+    return (min(p0[0], p1[0], p2[0], p3[0]), min(p0[1], p1[1], p2[1], p3[1]),
+            max(p0[0], p1[0], p2[0], p3[0]), max(p0[1], p1[1], p2[1], p3[1]))
 
 
 def _displayed_direction(a: float, b: float, c: float, d: float, rotation: int) -> str:

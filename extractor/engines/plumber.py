@@ -4,11 +4,20 @@ pdfplumber (through pdfminer.six) already reports coordinates with the page's /R
 and the origin at the top-left, which is our convention, and each char's matrix in displayed
 space. pdfplumber is imported lazily so that `import extractor` stays cheap.
 
+Page boxes: pdfplumber's coordinates start at the top-left of the displayed *MediaBox*, shifted
+by where pdfplumber places that box (not 0 when the MediaBox does not start at 0); the
+displayed page is the CropBox (PDFium's and every viewer's page). `_PageFrame` moves chars and
+rules to the top-left of the displayed CropBox, for every /Rotate (pdfplumber's own `cropbox`
+is off for /Rotate 180 and 270, so it is computed here from the raw boxes).
+
 Two pdfminer faults are corrected so that this engine reads what the PDFium engine reads:
 
 * Its `upright` flag is computed without tolerance: on a /Rotate 90 page, text turned 90°
   has cos 90° = 6e-17 in its matrix and passes as upright. The direction is decided from the
   matrix by `words.char_direction` instead.
+* pdfminer gives a ligature glyph of a base-14 font zero width when the font's text map
+  calls it by its letters ("fi"), and a hyphen the text map calls a soft hyphen:
+  `_fix_base14_widths` adds those spellings too.
 * For the base-14 Symbol font (reportlab draws Ω and Δ with it) pdfminer looks widths up
   under the Unicode names of the glyphs while it reports the chars by their Latin codes
   ("W", "D"): every Greek letter gets zero width, and the chars after it in the same text
@@ -25,7 +34,10 @@ from typing import Any
 from extractor.engines.base import PageContent, Rule
 from extractor.engines.words import (
     CANONICAL,
+    CONTROL_CHARS,
+    LIGATURES,
     SYMBOL,
+    UNREADABLE,
     Char,
     build_words,
     char_direction,
@@ -127,24 +139,70 @@ def _fix_base14_widths() -> None:
         width = symbol.get(char, symbol.get(afm_name.get(char, char)))
         if width is not None:
             symbol.setdefault(ord(code), width)  # type: ignore[arg-type]  # pdfminer keys codes
+    # A ligature glyph whose text map gives its letters ("fi") is looked up by those letters;
+    # the tables know it only by its own code point ("ﬁ"): it would get zero width.
+    # The same for a hyphen that the text map calls a soft hyphen (U+00AD).
+    for _descriptor, widths in FONT_METRICS.values():
+        for lig, letters in LIGATURES.items():
+            if lig in widths:
+                widths.setdefault(letters, widths[lig])
+        if "-" in widths:
+            widths.setdefault("\u00ad", widths["-"])
     dingbats = FONT_METRICS["ZapfDingbats"][1]
     for code, width in _DINGBAT_WIDTHS.items():
         dingbats.setdefault(ord(code), width)  # type: ignore[arg-type]  # pdfminer keys codes
     _WIDTHS_FIXED = True
 
 
-def _rules(page: Any) -> list[Rule]:
+class _PageFrame:
+    """pdfplumber's page coordinates → ours: (dx, dy) to subtract, the displayed size."""
+
+    def __init__(self, page: Any) -> None:
+        rotation = int(getattr(page, "rotation", 0) or 0) % 360
+        obj = page.page_obj
+        mx0, my0, mx1, my1 = _normal(obj.mediabox)
+        cx0, cy0, cx1, cy1 = _normal(obj.cropbox or obj.mediabox)
+        # the displayed page is the part of the CropBox inside the MediaBox
+        cx0, cy0, cx1, cy1 = max(cx0, mx0), max(cy0, my0), min(cx1, mx1), min(cy1, my1)
+        if cx1 <= cx0 or cy1 <= cy0:
+            cx0, cy0, cx1, cy1 = mx0, my0, mx1, my1
+        # the CropBox's top-left corner in displayed-MediaBox coordinates (y down)
+        if rotation == 90:
+            ox, oy = cy0 - my0, cx0 - mx0
+        elif rotation == 180:
+            ox, oy = mx1 - cx1, cy0 - my0
+        elif rotation == 270:
+            ox, oy = my1 - cy1, mx1 - cx1
+        else:
+            ox, oy = cx0 - mx0, my1 - cy1
+        self.dx = float(page.mediabox[0]) + ox
+        self.dy = float(page.mediabox[1]) + oy
+        w, h = cx1 - cx0, cy1 - cy0
+        self.width, self.height = (h, w) if rotation in (90, 270) else (w, h)
+        self.rotation = rotation
+
+    def box(self, obj: dict[str, Any]) -> tuple[float, float, float, float]:
+        dx, dy = self.dx, self.dy
+        return (float(obj["x0"]) - dx, float(obj["top"]) - dy, float(obj["x1"]) - dx,
+                float(obj["bottom"]) - dy)
+
+
+def _normal(box: Any) -> tuple[float, float, float, float]:
+    x0, y0, x1, y1 = (float(v) for v in box)
+    return min(x0, x1), min(y0, y1), max(x0, x1), max(y0, y1)
+
+
+def _rules(page: Any, frame: _PageFrame) -> list[Rule]:
     rules: list[Rule] = []
     for ln in page.lines:
-        rules.append(Rule(float(ln["x0"]), float(ln["top"]), float(ln["x1"]), float(ln["bottom"])))
+        rules.append(Rule(*frame.box(ln)))
     for r in page.rects:
-        x0, top, x1, bottom = (float(r[k]) for k in ("x0", "top", "x1", "bottom"))
-        rules.extend(rect_rules(x0, top, x1, bottom, bool(r.get("stroke"))))
+        rules.extend(rect_rules(*frame.box(r), bool(r.get("stroke"))))
     for c in page.curves:
         # pdfminer keeps a rectangle whose corners differ by float noise as a "curve"
         path = c.get("path") or []
         ops = "".join(str(seg[0]) for seg in path)
-        pts = [(float(x), float(y)) for x, y in c.get("pts") or []]
+        pts = [(float(x) - frame.dx, float(y) - frame.dy) for x, y in c.get("pts") or []]
         if ops == "mlllh" or (ops == "mllll" and len(pts) == 5
                               and abs(pts[0][0] - pts[4][0]) <= SAME
                               and abs(pts[0][1] - pts[4][1]) <= SAME):
@@ -154,18 +212,22 @@ def _rules(page: Any) -> list[Rule]:
     return rules
 
 
-def _chars(page: Any) -> list[Char]:
+def _chars(page: Any, frame: _PageFrame) -> list[Char]:
     out: list[Char] = []
+    dx, dy = frame.dx, frame.dy
     for c in page.chars:
         m = c.get("matrix") or (1, 0, 0, 1, 0, 0)
         direction = char_direction(*m[:4])
+        text = c["text"]
+        if text.startswith("(cid:") or text in CONTROL_CHARS:
+            text = UNREADABLE  # a glyph with no text: the same mark as the PDFium engine's
         out.append(
             Char(
-                text=c["text"],
-                x0=float(c["x0"]),
-                top=float(c["top"]),
-                x1=float(c["x1"]),
-                bottom=float(c["bottom"]),
+                text=text,
+                x0=float(c["x0"]) - dx,
+                top=float(c["top"]) - dy,
+                x1=float(c["x1"]) - dx,
+                bottom=float(c["bottom"]) - dy,
                 size=float(c.get("size") or 0.0),
                 fontname=str(c.get("fontname") or ""),
                 upright=direction == "ltr",
@@ -176,14 +238,15 @@ def _chars(page: Any) -> list[Char]:
 
 
 def page_content(page: Any) -> PageContent:
-    chars = _chars(page)
+    frame = _PageFrame(page)
+    chars = _chars(page, frame)
     return PageContent(
         number=int(page.page_number),
-        width=float(page.width),
-        height=float(page.height),
-        rotation=int(getattr(page, "rotation", 0) or 0),
+        width=frame.width,
+        height=frame.height,
+        rotation=frame.rotation,
         words=build_words(chars),
-        rules=_rules(page),
+        rules=_rules(page, frame),
         char_count=len(chars),
         unreadable_chars=sum(1 for c in chars if is_unreadable(c.text)),
     )
@@ -211,6 +274,10 @@ class PlumberDocument:
             finally:
                 page.close()
             yield content
+
+    def page_obj(self, number: int) -> Any:
+        """pdfminer's page object of page `number` (1-based): its raw boxes."""
+        return self._pdf.pages[number - 1].page_obj
 
     def close(self) -> None:
         self._pdf.close()

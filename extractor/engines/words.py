@@ -11,8 +11,17 @@ Rules:
 * Vertical text: chars stacked on the same x (their baseline edge: right edge for text
   turned 90° anticlockwise, read bottom-to-top "btt"; left edge for text turned clockwise,
   read top-to-bottom "ttb") form one line, read in that order, split the same way.
-* Chars in a font whose name contains "Dingbats" are mapped through `ZAPF_DINGBATS`
-  (ticks drawn as "3", "4"…), and chars in a "Symbol" font through `SYMBOL` ("W" → "Ω").
+* Chars in a font whose name says dingbats (`DINGBAT_FONT_NAMES`) are mapped through
+  `ZAPF_DINGBATS` (ticks drawn as "3", "4"…), and chars in a "Symbol" font through `SYMBOL`
+  ("W" → "Ω"). A tick whose font lost its name (a re-printed PDF embeds a renamed subset,
+  e.g. "ABCDEF+F3", with a text map that says "4") is recognised by its shape: see
+  `_shaped_ticks`.
+* Ligature code points (U+FB00–FB06) are decomposed (NFKC: "ﬁ" → "fi"), and a hyphen at a
+  line break (soft hyphen U+00AD, PDFium's U+FFFE) reads "-", in every font.
+* A char drawn twice at (nearly) the same place — the same text, boxes offset by less than
+  `DUPLICATE_FACTOR` × the char's width along the line — is read once (a common fake bold
+  draws each glyph two or three times, a fraction of a point apart). PDFium's text page
+  already drops most of them; pdfminer keeps them all.
 
 Engines should give `top`/`bottom` from the font's ascent/descent (as pdfplumber does), not
 the tight glyph outline, so that chars on one line share their bottom edge.
@@ -20,13 +29,20 @@ the tight glyph outline, so that chars on one line share their bottom edge.
 
 from __future__ import annotations
 
+import unicodedata
 from collections.abc import Iterable
 from operator import itemgetter
 from typing import NamedTuple
 
 from extractor.engines.base import ZAPF_DINGBATS, Word
 
-GAP_FACTOR = 0.25  # a gap wider than this × font size between chars ends a word
+# A gap wider than this × font size between chars ends a word, whether or not a space char
+# is there. Word spaces are 0.2–0.33 em in text fonts (Times 0.25, Helvetica 0.278, a
+# condensed sans about 0.2; "from memory", the fonts' AFM/hmtx tables); gaps inside a word,
+# kerning and rounding included, stayed under 0.03 em on every fixture (re-printed ones too,
+# measured). 0.15 breaks at every real space and never inside a word.
+GAP_FACTOR = 0.15
+DUPLICATE_FACTOR = 0.3  # the same char again within this × its width along the line: a copy
 LINE_FACTOR = 0.3  # chars whose baseline edges differ by less than this × size share a line
 DIRECTIONS = ("ltr", "rtl", "btt", "ttb")
 
@@ -55,6 +71,28 @@ SYMBOL = {
 # carry the Greek letters (the layouts' header patterns are written with them too).
 CANONICAL = {"\u2126": "\u03a9", "\u2206": "\u0394", "\u00b5": "\u03bc"}
 
+# Ligature glyphs as the letters they join (pdfminer reports "ﬁ" when the font's text map says
+# U+FB01; PDFium already expands them), and the marks of a hyphen at a line break as the
+# hyphen drawn there (U+00AD soft hyphen from a text map; U+FFFE is PDFium's).
+LIGATURES = {chr(c): unicodedata.normalize("NFKC", chr(c)) for c in range(0xFB00, 0xFB07)}
+BREAK_HYPHENS = {"\u00ad": "-", "\ufffe": "-"}
+_TEXT_TABLE = {**CANONICAL, **LIGATURES, **BREAK_HYPHENS}
+
+# Names of fonts that draw ZapfDingbats' glyphs at its codes: the base-14 name and the
+# metric-compatible substitutes a re-printing program embeds in its place (URW's D050000L, as
+# Ghostscript and cairo ship it; "Dingbats", its older name). Matched on the name without a
+# subset prefix, lower case, spaces and hyphens removed.
+DINGBAT_FONT_NAMES = ("dingbats", "d050000l")
+
+# ZapfDingbats advance widths (thousandths of an em, the font's AFM file) of the codes that
+# draw ticks and crosses. A glyph's advance survives every re-print (the widths are part of the
+# font dictionary), and no text font draws a digit as wide as the tick and cross glyphs of
+# codes 3–6 (text fonts' digits are 0.5–0.67 em; "from memory", common fonts' metrics).
+# Codes 7 and 8 (571, 677) are as wide as some fonts' digits, so they are taken as crosses by
+# shape only in a font that also draws a wide tick or cross on the page.
+DINGBAT_WIDTHS = {"3": 755, "4": 846, "5": 762, "6": 761, "7": 571, "8": 677}
+_WIDE_DINGBATS = frozenset("3456")
+SHAPE_TOLERANCE = 0.02  # a glyph's advance within 2 % of the AFM width: the same glyph
 
 class Char(NamedTuple):
     """One char (a tuple: engines make tens of thousands per document, cheaply)."""
@@ -77,14 +115,15 @@ class Char(NamedTuple):
 def char_direction(a: float, b: float, c: float, d: float) -> str:
     """Reading direction of a char from its matrix in *displayed* space (y upwards).
 
-    Upright chars (a·d > 0 and b·c <= 0, pdfminer's test) read "ltr", text turned 180° too;
-    the others as `direction_from_matrix` says. Components within 1e-6 of zero count as zero:
-    a page turned by /Rotate leaves cos 90° = 6e-17 in the matrix, which would make text
-    turned 90° look upright (pdfminer's own `upright` flag has that fault).
+    Upright chars (a·d > 0 and b·c <= 0, pdfminer's test) read "ltr", or "rtl" when turned
+    180° (a page with /Rotate 180 shows its text upside down: read from the right, it reads as
+    written); the others as `direction_from_matrix` says. Components within 1e-6 of zero count
+    as zero: a page turned by /Rotate leaves cos 90° = 6e-17 in the matrix, which would make
+    text turned 90° look upright (pdfminer's own `upright` flag has that fault).
     """
     a, b, c, d = (0.0 if -1e-6 < v < 1e-6 else v for v in (a, b, c, d))
     if a * d > 0 and b * c <= 0:
-        return "ltr"
+        return "ltr" if a > 0 else "rtl"
     return direction_from_matrix(a, b, c, d)
 
 
@@ -99,12 +138,17 @@ def direction_from_matrix(a: float, b: float, c: float, d: float) -> str:
     return "btt" if b > 0 else "ttb"
 
 
+UNREADABLE = "\ufffd"  # how every engine writes a glyph that has no text
+# control chars other than whitespace: never text, only a broken text map gives them
+CONTROL_CHARS = frozenset(chr(c) for c in range(32) if not chr(c).isspace())
+
+
 def is_unreadable(text: str) -> bool:
     """Text a PDF library could not decode: "(cid:NN)" glyph ids or U+FFFD."""
     return "(cid:" in text or "\ufffd" in text
 
 
-_SYMBOL_TABLE = {**CANONICAL, **SYMBOL}  # SYMBOL's values are canonical already
+_SYMBOL_TABLE = {**_TEXT_TABLE, **SYMBOL}  # SYMBOL's values are canonical already
 _TABLES: dict[str, dict[str, str]] = {}
 
 
@@ -112,13 +156,13 @@ def _table(fontname: str) -> dict[str, str]:
     """The text mapping for chars of a font (cached by font name)."""
     table = _TABLES.get(fontname)
     if table is None:
-        low = fontname.lower()
-        if "dingbats" in low:
+        low = fontname.split("+", 1)[-1].lower().replace(" ", "").replace("-", "")
+        if any(n in low for n in DINGBAT_FONT_NAMES):
             table = ZAPF_DINGBATS
         elif "symbol" in low:
             table = _SYMBOL_TABLE
         else:
-            table = CANONICAL
+            table = _TEXT_TABLE
         _TABLES[fontname] = table
     return table
 
@@ -177,7 +221,7 @@ def _items(chars: list[Char], direction: str) -> list[tuple]:  # type: ignore[ty
             rb = rounded.get(bottom)
             if rb is None:
                 rb = rounded[bottom] = round(bottom, 3)
-            append((rb, round(x0, 3), top, x0, text, bottom, x0, x1, bottom - top,
+            append((rb, x0, top, x0, text, bottom, x0, x1, bottom - top,
                     table.get(text, text), ch))
     else:
         for ch in chars:
@@ -205,14 +249,21 @@ def _lines(items: list[tuple]) -> list[list[tuple]]:  # type: ignore[type-arg]
     return lines
 
 
-def _word(run: list[tuple], texts: list[str]) -> Word:  # type: ignore[type-arg]
+def _emit(run: list[tuple], texts: list[str], words: list[Word],  # type: ignore[type-arg]
+          shaped: list[tuple[int, tuple]]) -> None:  # type: ignore[type-arg]
+    """Append the word of a run of items; a lone dingbat code also goes to `shaped` (its
+    index in `words` and its item), to be judged by `_shaped_ticks`."""
     first = run[0][10]
     if len(run) == 1:
-        return Word("".join(texts), first.x0, first.top, first.x1, first.bottom,
-                    first.direction in ("btt", "ttb"), first.size, first.direction)
+        text = texts[0]
+        if text in DINGBAT_WIDTHS:
+            shaped.append((len(words), run[0]))
+        words.append(Word(text, first.x0, first.top, first.x1, first.bottom,
+                          first.direction in ("btt", "ttb"), first.size, first.direction))
+        return
     # the chars' fields as columns: (text, x0, top, x1, bottom, size, ...)
     cols = tuple(zip(*[it[10] for it in run], strict=True))
-    return Word(
+    words.append(Word(
         "".join(texts),
         min(cols[1]),
         min(cols[2]),
@@ -221,10 +272,12 @@ def _word(run: list[tuple], texts: list[str]) -> Word:  # type: ignore[type-arg]
         first.direction in ("btt", "ttb"),
         max(cols[5]),
         first.direction,
-    )
+    ))
 
 
-def _words_of_line(line: list[tuple], words: list[Word]) -> None:  # type: ignore[type-arg]
+def _words_of_line(line: list[tuple], words: list[Word],  # type: ignore[type-arg]
+                   shaped: list[tuple[int, tuple]]) -> None:  # type: ignore[type-arg]
+    """Append the words of one line (lone dingbat codes noted in `shaped`, see `_emit`)."""
     if len(line) > 1:
         line.sort(key=_WORD_ORDER)
     run: list[tuple] = []  # type: ignore[type-arg]
@@ -235,20 +288,52 @@ def _words_of_line(line: list[tuple], words: list[Word]) -> None:  # type: ignor
         text = it[9]
         if not text or text.isspace():
             if run:
-                words.append(_word(run, texts))
+                _emit(run, texts, words, shaped)
                 run, texts = [], []
             continue
         start, stop, em = it[6], it[7], it[8]
-        if run and start - end > GAP_FACTOR * (em if em > run_em else run_em):
-            words.append(_word(run, texts))
-            run, texts = [], []
+        if run:
+            if text == texts[-1]:
+                last = run[-1]
+                if abs(start - last[6]) <= DUPLICATE_FACTOR * (last[7] - last[6]):
+                    continue  # the same glyph drawn again over itself (fake bold): read once
+            if start - end > GAP_FACTOR * (em if em > run_em else run_em):
+                _emit(run, texts, words, shaped)
+                run, texts = [], []
         run.append(it)
         texts.append(text)
         run_em = em
         if len(run) == 1 or stop > end:
             end = stop
     if run:
-        words.append(_word(run, texts))
+        _emit(run, texts, words, shaped)
+
+
+def _tick_shape(it: tuple) -> bool:  # type: ignore[type-arg]
+    """Whether a char drawn as a dingbat code has the advance of ZapfDingbats' glyph there."""
+    em = it[8]
+    if em <= 0:
+        return False
+    want = DINGBAT_WIDTHS[it[9]]
+    advance: float = (it[7] - it[6]) / em * 1000.0
+    return abs(advance - want) <= SHAPE_TOLERANCE * want
+
+
+def _shaped_ticks(words: list[Word], shaped: list[tuple[int, tuple]]) -> None:  # type: ignore[type-arg]
+    """Read as ticks and crosses the lone dingbat codes whose glyphs have ZapfDingbats' shape.
+
+    A re-printed PDF embeds the tick font as a renamed subset whose text map says "4": the
+    font's name is lost, its glyphs' advances are not. A lone "3"–"6" whose advance is the
+    ZapfDingbats glyph's (within `SHAPE_TOLERANCE`) is that glyph; a lone "7" or "8" too,
+    when the same font draws such a wide one on the page.
+    """
+    matched = [(i, it) for i, it in shaped if _tick_shape(it)]
+    fonts = {it[10].fontname for _, it in matched if it[9] in _WIDE_DINGBATS}
+    for i, it in matched:
+        if it[10].fontname in fonts:
+            w = words[i]
+            words[i] = Word(ZAPF_DINGBATS[it[9]], w.x0, w.top, w.x1, w.bottom, w.vertical,
+                            w.size, w.direction)
 
 
 def _horizontal_order(w: Word) -> tuple[float, float, str]:
@@ -269,10 +354,13 @@ def build_words(chars: Iterable[Char]) -> list[Word]:
             lst = by_dir[ch[8]] = []
         lst.append(ch)
     words: list[Word] = []
+    shaped: list[tuple[int, tuple]] = []  # type: ignore[type-arg]
     for direction in sorted(by_dir, key=lambda d: DIRECTIONS.index(d) if d in DIRECTIONS else 99):
         if by_dir[direction]:
             for line in _lines(_items(by_dir[direction], direction)):
-                _words_of_line(line, words)
+                _words_of_line(line, words, shaped)
+    if shaped:
+        _shaped_ticks(words, shaped)
     horiz = [w for w in words if not w.vertical]
     vert = [w for w in words if w.vertical]
     horiz.sort(key=_horizontal_order)
