@@ -213,7 +213,7 @@ def demo(
         batch(
             [DEMO_DIR], layout=[DEMO_LAYOUTS], store=out / "corpus.sqlite", out=out,
             workers=None, timeout=120.0, memory_mb=2048, retry_failed=False, scheduler=None,
-            profile=None, password=None, quiet=False,
+            profile=None, password=None, quiet=False, fail_on="breach,impossible",
         )
     except typer.Exit as done:
         code = done.exit_code

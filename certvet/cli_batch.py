@@ -21,6 +21,20 @@ class ExportFormat(StrEnum):
     parquet = "parquet"
 
 
+def parse_fail_on(text: str) -> frozenset[Any]:
+    """`--fail-on breach,impossible` as a set of Severity; ValueError (one line) otherwise."""
+    from checks.model import Severity
+
+    words = [w for w in (p.strip() for p in text.split(",")) if w]
+    if not words:
+        raise ValueError("--fail-on: give at least one severity (note, query, breach, "
+                         "impossible)")
+    try:
+        return frozenset(Severity.parse(w) for w in words)
+    except ValueError as exc:
+        raise ValueError(f"--fail-on: {exc}") from None
+
+
 def _err(message: str) -> None:
     typer.echo(f"certvet: {message}", err=True)
 
@@ -63,6 +77,12 @@ def batch(
         Optional[str], typer.Option("--password", help="Password for encrypted PDFs.")  # noqa: UP045
     ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print only the totals.")] = False,
+    fail_on: Annotated[
+        str, typer.Option("--fail-on", metavar="SEVERITIES",
+                          help="Severities that make the exit status 1, comma-separated "
+                               "(note, query, breach, impossible); findings across "
+                               "certificates count too (a copied schedule is impossible).")
+    ] = "breach,impossible",
 ) -> None:
     """Audit a folder of certificates into the corpus: resumable, in parallel, never stopped by
     one bad file; then cross-certificate checks and a portfolio page."""
@@ -78,7 +98,8 @@ def batch(
     try:
         layouts = load_layouts(layout)
         prof = load_profile(profile) if profile else DEFAULT_PROFILE
-    except (LayoutError, ProfileError) as exc:
+        severities = parse_fail_on(fail_on)
+    except (LayoutError, ProfileError, ValueError) as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_USAGE) from None
 
@@ -131,7 +152,7 @@ def batch(
         report = run_batch(inputs, layouts=layouts, store=store, out_dir=out, workers=workers,
                            limits=Limits(seconds=timeout, memory_mb=memory_mb), profile=prof,
                            password=password, on_event=on_event, retry_failed=retry_failed,
-                           scheduler=scheduler, on_start=on_start)
+                           scheduler=scheduler, on_start=on_start, fail_on=severities)
     except (CorpusError, ConnectionError) as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_FAILED) from None
@@ -151,12 +172,18 @@ def batch(
                 typer.echo(f"  {o.path}")
         for cf in report.cross_findings:
             f = cf.finding
-            typer.echo(f"CROSS    {f.certificate}: {f.check_id}: {f.message}")
+            typer.echo(f"ACROSS   {f.certificate}: {f.check_id} ({f.severity.slug}): {f.message}")
+        if report.decided_again:
+            typer.echo("verdicts after comparing with other certificates:")
+            for o in report.decided_again:
+                typer.echo(o.verdict_line())
     typer.echo(f"\n{len(report.outcomes)} file(s): {t['audited']} audited, {t['skipped']} "
                f"skipped, {t['failed']} failed; {len(report.cross_findings)} cross-certificate "
                f"finding(s); store {store}; portfolio {report.portfolio}")
     for o in report.failed:
         typer.echo(f"  failed: {o.reason}")
+    for line in report.output_errors:
+        _err(line)
     typer.echo("A desk check cannot show an installation is safe; "
                "defer to BS 7671 and licensed practice.")
     raise typer.Exit(report.exit_code)
