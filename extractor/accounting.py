@@ -5,15 +5,18 @@ An audit may say "no concerns found" only when every page and board of the sched
 column header, no rows) and `account_boards` once at the end for what only the whole
 certificate shows: a board with no circuits, circuit numbers repeated within a board, more
 rows than a board plausibly holds, and a count of rows far from the circuits the form
-declares for the board (`circuit_count`). Each becomes an `ExtractionProblem`, so the verdict
-is "audit incomplete" (reports/verdict.py) and the extraction check lists it.
+declares for the board (layout key `board.circuit_count`). Each becomes an
+`ExtractionProblem`, so the verdict is "audit incomplete" (reports/verdict.py) and the
+extraction check lists it.
 """
 
 from __future__ import annotations
 
 from collections import Counter
 
-from extractor.records import Box, Certificate, ExtractionProblem, ValueKind
+from extractor.fields import FieldKind
+from extractor.records import Box, Certificate, ExtractionProblem
+from extractor.tokens import parse_value
 
 # More rows than this in one board means a missed board heading (or a table that is not the
 # schedule), not a real board: common practice, no source (large boards have a few dozen
@@ -62,18 +65,16 @@ def account_boards(cert: Certificate) -> list[ExtractionProblem]:
                     raw=shown,
                 )
             )
-        declared = board.value("circuit_count")
-        if declared.kind is ValueKind.NUMBER and declared.number is not None:
-            slack = max(DECLARED_SLACK_ROWS, DECLARED_SLACK_SHARE * declared.number)
-            if abs(n - declared.number) > slack:
-                cell = board.cells.get("circuit_count")
-                out.append(
-                    ExtractionProblem(
-                        f"{name} declares {declared.raw.strip()} circuits, {n} rows were read",
-                        field="circuit_count",
-                        board=board.ref,
-                        raw=declared.raw,
-                        box=cell.box if cell else None,
-                    )
-                )
+        if board.declared_circuits is not None:
+            raw, box = board.declared_circuits
+            declared = parse_value(raw, FieldKind.NUMBER)
+            if declared.number is None:
+                message = f"{name}: the declared circuit count {raw!r} is not a number"
+            elif abs(n - declared.number) > max(
+                DECLARED_SLACK_ROWS, DECLARED_SLACK_SHARE * declared.number
+            ):
+                message = f"{name} declares {raw} circuits, {n} rows were read"
+            else:
+                continue
+            out.append(ExtractionProblem(message, board=board.ref, raw=raw, box=box))
     return out

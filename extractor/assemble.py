@@ -818,6 +818,11 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
                     spec.field, value, union_box(page.number, ws), ref, None
                 )
                 break
+        count = layout.board.circuit_count
+        if count is not None and board.declared_circuits is None:
+            for value, ws in _label_matches(LabelSpec("circuit_count", count), block):
+                board.declared_circuits = (value, union_box(page.number, ws))
+                break
 
     for k, h in enumerate(headers):
         before = [ref for ln, ref in starts if ln.top < h.top]

@@ -75,9 +75,6 @@ BOARD_FIELDS: tuple[FieldSpec, ...] = (
     FieldSpec("ipf", "Prospective fault current", N, "kA", "board"),
     FieldSpec("earthing", "Earthing system", T, None, "board"),
     FieldSpec("board_polarity", "Polarity at the board", C, None, "board"),
-    # the number of circuits (or ways) the form says the board has: the schedule is compared
-    # with it (extractor/accounting.py)
-    FieldSpec("circuit_count", "Circuits declared for the board", N, None, "board"),
 )
 
 CERTIFICATE_FIELDS: tuple[FieldSpec, ...] = (
