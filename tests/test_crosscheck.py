@@ -7,8 +7,10 @@ from pathlib import Path
 import pytest
 from casekit import make_certificate
 
-from certvet.corpus import Corpus
-from certvet.corpus.crosscheck import (
+from checks.profile import DEFAULT_PROFILE
+from checks.runner import CheckResults
+from corpus import Corpus
+from corpus.crosscheck import (
     COPIED,
     INSPECTOR_WORKLOAD,
     INSTRUMENT_WORKLOAD,
@@ -19,10 +21,8 @@ from certvet.corpus.crosscheck import (
     scan,
     workload,
 )
-from certvet.corpus.fingerprints import GRID, Reading, quantise, relation
-from certvet.corpus.synthetic import CertificateStream, generate
-from checks.profile import DEFAULT_PROFILE
-from checks.runner import CheckResults
+from corpus.fingerprints import GRID, Reading, quantise, relation
+from corpus.synthetic import CertificateStream, generate
 
 EMPTY = CheckResults(DEFAULT_PROFILE)
 
