@@ -43,7 +43,7 @@ def _boxed_certificate():
         board={"ze": "0.35", "earthing": "TN-C-S"},
         certificate={"cert_number": "RT-0001", "address": "4 Pellow Street, Stennet, SZ3 1AB",
                      "inspection_date": "03/02/2024", "inspector": "Mei Quill",
-                     "contractor": "Keystone Wiring Co", "instrument_serial": "MFT-1"},
+                     "contractor": "Keystone Wiring Co (fictional)", "instrument_serial": "ZX-1"},
     )
     cert.sha256 = "a" * 64
     c = cert.boards[0].circuits[0]
