@@ -173,6 +173,15 @@ ALTER TABLE certificates ADD COLUMN profile_name TEXT;
 ALTER TABLE certificates ADD COLUMN profile TEXT  -- JSON: checks.profile.Profile.to_dict()
 """
 
+# circuit fields of the A2:2022 model schedule added to extractor/fields.py: the RCD's own
+# standard and rating, insulation neutral-earth, SPD type and status indicator
+CIRCUIT_FIELDS_V3 = ("rcd_standard", "rcd_rating", "ir_neutral_earth", "spd_type", "spd_indicator")
+_V3 = "\n".join(
+    f"ALTER TABLE circuits ADD COLUMN {f}_{part} {kind};"
+    for f in CIRCUIT_FIELDS_V3
+    for part, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
+)
+
 # One findings table for every finding: per certificate (stage 'certificate', stored with the
 # certificate) and across certificates (stage 'corpus', replaced by each cross-certificate
 # phase), with severities as checks.model.Severity slugs and the other certificates by content
@@ -180,7 +189,7 @@ ALTER TABLE certificates ADD COLUMN profile TEXT  -- JSON: checks.profile.Profil
 # before this migration keep a verdict mapped from their worst finding ('clean' and 'note'
 # become 'incomplete' when the schedule had no circuits or a problem was recorded, else
 # 'no_concerns'); the next batch over them decides it again with the cross-certificate checks.
-_V3 = """
+_V4 = """
 CREATE TABLE findings_v3 (
     id             INTEGER PRIMARY KEY,
     cert_id        INTEGER NOT NULL REFERENCES certificates(id) ON DELETE CASCADE,
@@ -226,7 +235,8 @@ ALTER TABLE certificates RENAME COLUMN verdict_v3 TO verdict
 MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (1, "files, certificates, boards, circuits, findings, similarity index", _V1),
     (2, "certificates: rule profile used (profile_name, profile JSON)", _V2),
-    (3, "one findings table (stage, severity slugs, related hashes); verdict keys", _V3),
+    (3, "circuits: RCD standard and rating, IR neutral-earth, SPD type and indicator", _V3),
+    (4, "one findings table (stage, severity slugs, related hashes); verdict keys", _V4),
 )
 
 LATEST = MIGRATIONS[-1][0]
