@@ -42,7 +42,6 @@ impossible finding; else 0. Cross-certificate findings are queries: they never c
 
 from __future__ import annotations
 
-import csv
 import json
 import os
 from collections.abc import Callable, Iterable, Iterator, Sequence
@@ -559,19 +558,16 @@ def _unrecorded(profile: Profile) -> Profile:
 
 def write_cross_findings(found: Sequence[CrossFinding], out_dir: Path) -> tuple[Path, Path]:
     from checks.model import FINDING_COLUMNS
+    from reports.csvout import write_table
 
     out_dir.mkdir(parents=True, exist_ok=True)
     rows = [cf.finding.to_dict() for cf in found]
     js = out_dir / "cross-findings.json"
     js.write_text(json.dumps({"format_version": 1, "findings": rows}, indent=1),
                   encoding="utf-8")
-    cs = out_dir / "cross-findings.csv"
     cols = [c for c in FINDING_COLUMNS if c != "box"] + ["related"]
-    with cs.open("w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
-        w.writerow(cols)
-        for r in rows:
-            w.writerow(["; ".join(r[c]) if c == "related" else r[c] for c in cols])
+    cs = write_table(out_dir / "cross-findings.csv", cols,
+                     (["; ".join(r[c]) if c == "related" else r[c] for c in cols] for r in rows))
     return js, cs
 
 

@@ -7,7 +7,9 @@ Expected outcomes live in fixtures/hostile/expected.json; regenerate the files w
 
 from __future__ import annotations
 
+import csv
 import json
+import re
 from pathlib import Path
 
 import pytest
@@ -103,3 +105,52 @@ def test_hostile_layout(name: str) -> None:
     assert "\n" not in message
     assert message.startswith(f"{path}: ")
     assert spec["reason"] in message, message
+
+
+# --- spreadsheet formulas in every CSV writer -----------------------------------------------
+
+_FORMULA = re.compile(r"^[=+@\t\r]")
+_PLAIN_DASH = re.compile(r"^-+\s*$|^-\s*\d+([.,]\d+)?\s*\S*$")  # "-", "-0.01", "-5 mA"
+
+
+def _unsafe_cells(path: Path) -> list[str]:
+    with path.open(newline="", encoding="utf-8") as fh:
+        cells = [c for row in csv.reader(fh) for c in row]
+    return [c for c in cells if _FORMULA.match(c) or (c[:1] == "-" and not _PLAIN_DASH.match(c))]
+
+
+def test_no_csv_writer_writes_a_formula(tmp_path: Path) -> None:
+    """Formula text from PDFs reaches every CSV certvet writes (the per-certificate records and
+    findings, the batch's cross-findings, `certvet export --format csv`), always defused."""
+    from typer.testing import CliRunner
+
+    from certvet.cli import app
+
+    names = ("formula-text-in-cells.pdf", "formula-text-in-cells-same-number.pdf")
+    pdfs = [HOSTILE / n for n in names]
+    layout = HOSTILE / "layouts" / "hostile-grid.toml"
+    runner = CliRunner()
+    res = runner.invoke(app, ["audit", str(pdfs[0]), "--layout", str(layout),
+                              "--out", str(tmp_path / "audit")])
+    assert res.exception is None or isinstance(res.exception, SystemExit), res.output
+    res = runner.invoke(app, ["batch", *map(str, pdfs), "--layout", str(layout),
+                              "--store", str(tmp_path / "s.sqlite"), "--out", str(tmp_path / "b")])
+    assert res.exception is None or isinstance(res.exception, SystemExit), res.output
+    res = runner.invoke(app, ["export", "--store", str(tmp_path / "s.sqlite"),
+                              "--out", str(tmp_path / "e"), "--format", "csv"])
+    assert res.exit_code == 0, res.output
+    written = sorted(tmp_path.rglob("*.csv"))
+    names = {p.name for p in written}
+    assert "cross-findings.csv" in names and "certificates.csv" in names, names
+    assert any(n.endswith(".records.csv") for n in names), names
+    assert any(n.endswith(".findings.csv") for n in names), names
+    for path in written:
+        assert _unsafe_cells(path) == [], path
+    # the formula text got there, defused (so the test above looked at the hostile text)
+    cross = (tmp_path / "b" / "cross-findings.csv").read_text(encoding="utf-8")
+    assert "'=HYPERLINK" in cross
+    exported = (tmp_path / "e" / "certificates.csv").read_text(encoding="utf-8")
+    assert "'=HYPERLINK" in exported
+    records = next(p for p in written if p.name.endswith(".records.csv")).read_text("utf-8")
+    assert "'=1+2" in records and "'+SUM(A1:A9)" in records and "'@cmd" in records
+    assert "'-2+3" in records
