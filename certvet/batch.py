@@ -50,10 +50,12 @@ from enum import StrEnum
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from certvet.exitcodes import EXIT_CLEAN, EXIT_FAILED, EXIT_FINDINGS
 from certvet.workers import Limits, Outcome, run_isolated
 from checks.profile import DEFAULT_PROFILE, Profile
 from extractor.errors import InputError
 from extractor.layout import Layout
+from extractor.untrusted import one_line
 
 if TYPE_CHECKING:
     from certvet.api import AuditResult
@@ -63,7 +65,6 @@ if TYPE_CHECKING:
 
 __all__ = ["BatchReport", "FileOutcome", "Status", "run_batch", "write_portfolio"]
 
-EXIT_CLEAN, EXIT_FINDINGS, EXIT_FAILED = 0, 1, 3
 REPORTS_SUBDIR = "certificates"
 # readings an inspector measures (last-digit chart); ratings, sizes and test voltages are not
 MEASURED_FIELDS = frozenset({"r1", "rn", "r2", "r1_r2", "r1_rn", "r2_only", "ir_live_live",
@@ -93,13 +94,13 @@ class FileOutcome:
     reports: dict[str, Path] = field(default_factory=dict)
 
     def line(self) -> str:
-        """One line for the console."""
+        """One line for the console (control characters in names and reasons escaped)."""
         if self.status is Status.AUDITED:
-            return (f"{(self.verdict or '').upper():<22} {self.path}  ({self.findings} findings, "
-                    f"layout {self.layout})")
+            return one_line(f"{(self.verdict or '').upper():<22} {self.path}  ({self.findings} "
+                            f"findings, layout {self.layout})")
         if self.status is Status.SKIPPED:
-            return f"{'SKIPPED':<22} {self.reason}"
-        return f"{'FAILED':<22} {self.reason}"
+            return one_line(f"{'SKIPPED':<22} {self.reason}")
+        return one_line(f"{'FAILED':<22} {self.reason}")
 
 
 @dataclass
