@@ -46,7 +46,6 @@ certificate or across certificates (a copied schedule is "impossible"); else 0.
 
 from __future__ import annotations
 
-import csv
 import json
 import os
 from collections.abc import Callable, Iterable, Iterator, Sequence
@@ -55,11 +54,14 @@ from enum import StrEnum
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from certvet.exitcodes import DEFAULT_FAIL_ON as DEFAULT_FAIL_ON_TEXT
+from certvet.exitcodes import EXIT_CLEAN, EXIT_FAILED, EXIT_FINDINGS, parse_fail_on
 from certvet.workers import Limits, Outcome, run_isolated
 from checks.model import Severity
 from checks.profile import DEFAULT_PROFILE, Profile
 from extractor.errors import InputError
 from extractor.layout import Layout
+from extractor.untrusted import one_line
 
 if TYPE_CHECKING:
     from certvet.api import AuditResult
@@ -71,8 +73,7 @@ if TYPE_CHECKING:
 
 __all__ = ["BatchReport", "FileOutcome", "Status", "run_batch", "write_portfolio"]
 
-EXIT_CLEAN, EXIT_FINDINGS, EXIT_FAILED = 0, 1, 3
-DEFAULT_FAIL_ON = frozenset({Severity.BREACH, Severity.IMPOSSIBLE})
+DEFAULT_FAIL_ON: frozenset[Severity] = parse_fail_on(DEFAULT_FAIL_ON_TEXT)
 REPORTS_SUBDIR = "certificates"
 # readings an inspector measures (last-digit chart); ratings, sizes and test voltages are not
 MEASURED_FIELDS = frozenset({"r1", "rn", "r2", "r1_r2", "r1_rn", "r2_only", "ir_live_live",
@@ -102,19 +103,19 @@ class FileOutcome:
     reports: dict[str, Path] = field(default_factory=dict)
 
     def line(self) -> str:
-        """One line for the console."""
+        """One line for the console (control characters in names and reasons escaped)."""
         if self.status is Status.AUDITED:
-            return (f"{(self.verdict or '').upper():<22} {self.path}  ({self.findings} findings, "
-                    f"layout {self.layout})")
+            return one_line(f"{(self.verdict or '').upper():<22} {self.path}  ({self.findings} "
+                            f"findings, layout {self.layout})")
         if self.status is Status.SKIPPED:
-            return f"{'SKIPPED':<22} {self.reason}"
-        return f"{'FAILED':<22} {self.reason}"
+            return one_line(f"{'SKIPPED':<22} {self.reason}")
+        return one_line(f"{'FAILED':<22} {self.reason}")
 
     def verdict_line(self) -> str:
         """The line of a certificate whose verdict the comparison with other certificates
         decided again (audited in this run or before)."""
-        return (f"{(self.verdict or '').upper():<22} {self.path}  ({self.findings} findings, "
-                "after comparing with other certificates)")
+        return one_line(f"{(self.verdict or '').upper():<22} {self.path}  ({self.findings} "
+                        "findings, after comparing with other certificates)")
 
 
 @dataclass
@@ -196,14 +197,6 @@ def report_stem(source: Path, sha256: str) -> str:
     return f"{source.stem}-{sha256[:8]}"
 
 
-def write_certificate_reports(result: AuditResult, out_dir: Path, profile: Profile
-                              ) -> dict[str, Path]:
-    from certvet.api import write_reports
-
-    stem = report_stem(result.source, result.certificate.sha256)
-    return write_reports(result, out_dir, ("html", "json", "csv"), profile, stem)
-
-
 @dataclass(frozen=True)
 class AuditJob:
     """Audit one file: choose its layout, extract, check, write its reports.
@@ -224,8 +217,16 @@ class AuditJob:
         result = audit_file(path, layouts=self.layouts, profile=self.profile, out_dir=None,
                             engine=self.engine, password=self.password)
         if self.reports_dir is not None:
-            result.outputs = write_certificate_reports(result, self.reports_dir, self.profile)
+            result.outputs = self.write_reports(result, self.reports_dir)
         return result
+
+    def write_reports(self, result: AuditResult, out_dir: Path) -> dict[str, Path]:
+        """The certificate's own reports (html, json, csv) as `<stem>-<sha8>.*` in out_dir
+        (also called by a Dask worker, certvet/distributed.py, with the job it was given)."""
+        from certvet.api import write_reports
+
+        stem = report_stem(result.source, result.certificate.sha256)
+        return write_reports(result, out_dir, ("html", "json", "csv"), self.profile, stem)
 
 
 # --- the run --------------------------------------------------------------------------------
@@ -636,19 +637,16 @@ def _unrecorded(profile: Profile) -> Profile:
 
 def write_cross_findings(found: Sequence[CrossFinding], out_dir: Path) -> tuple[Path, Path]:
     from checks.model import FINDING_COLUMNS
+    from reports.csvout import write_table
 
     out_dir.mkdir(parents=True, exist_ok=True)
     rows = [cf.finding.to_dict() for cf in found]
     js = out_dir / "cross-findings.json"
     js.write_text(json.dumps({"format_version": 1, "findings": rows}, indent=1),
                   encoding="utf-8")
-    cs = out_dir / "cross-findings.csv"
     cols = [c for c in FINDING_COLUMNS if c != "box"] + ["related"]
-    with cs.open("w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
-        w.writerow(cols)
-        for r in rows:
-            w.writerow(["; ".join(r[c]) if c == "related" else r[c] for c in cols])
+    cs = write_table(out_dir / "cross-findings.csv", cols,
+                     (["; ".join(r[c]) if c == "related" else r[c] for c in cols] for r in rows))
     return js, cs
 
 

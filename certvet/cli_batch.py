@@ -13,30 +13,14 @@ from typing import Annotated, Any, Optional
 
 import typer
 
-EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, EXIT_FAILED = 0, 1, 2, 3
+from certvet.console import err as _err
+from certvet.console import make_out_dir, one_line
+from certvet.exitcodes import DEFAULT_FAIL_ON, EXIT_FAILED, EXIT_USAGE, parse_fail_on
 
 
 class ExportFormat(StrEnum):
     csv = "csv"
     parquet = "parquet"
-
-
-def parse_fail_on(text: str) -> frozenset[Any]:
-    """`--fail-on breach,impossible` as a set of Severity; ValueError (one line) otherwise."""
-    from checks.model import Severity
-
-    words = [w for w in (p.strip() for p in text.split(",")) if w]
-    if not words:
-        raise ValueError("--fail-on: give at least one severity (note, query, breach, "
-                         "impossible)")
-    try:
-        return frozenset(Severity.parse(w) for w in words)
-    except ValueError as exc:
-        raise ValueError(f"--fail-on: {exc}") from None
-
-
-def _err(message: str) -> None:
-    typer.echo(f"certvet: {message}", err=True)
 
 
 def _why(exc: OSError) -> str:
@@ -82,7 +66,7 @@ def batch(
                           help="Severities that make the exit status 1, comma-separated "
                                "(note, query, breach, impossible); findings across "
                                "certificates count too (a copied schedule is impossible).")
-    ] = "breach,impossible",
+    ] = DEFAULT_FAIL_ON,
 ) -> None:
     """Audit a folder of certificates into the corpus: resumable, in parallel, never stopped by
     one bad file; then cross-certificate checks and a portfolio page."""
@@ -108,9 +92,7 @@ def batch(
     if not expand_inputs(inputs):
         _err(f"{', '.join(str(p) for p in inputs)}: no PDF files found")
         raise typer.Exit(EXIT_FAILED)
-    from certvet.cli import _make_out_dir
-
-    _make_out_dir(out)
+    make_out_dir(out)
 
     show_bar = not quiet and sys.stderr.isatty()
     lines: list[str] = []
@@ -169,10 +151,11 @@ def batch(
         if report.unrecognised:
             typer.echo(f"{len(report.unrecognised)} file(s) no layout recognises:")
             for o in report.unrecognised:
-                typer.echo(f"  {o.path}")
+                typer.echo(f"  {one_line(str(o.path))}")
         for cf in report.cross_findings:
             f = cf.finding
-            typer.echo(f"ACROSS   {f.certificate}: {f.check_id} ({f.severity.slug}): {f.message}")
+            typer.echo(one_line(f"ACROSS   {f.certificate}: {f.check_id} ({f.severity.slug}): "
+                                f"{f.message}"))
         if report.decided_again:
             typer.echo("verdicts after comparing with other certificates:")
             for o in report.decided_again:
@@ -181,7 +164,7 @@ def batch(
                f"skipped, {t['failed']} failed; {len(report.cross_findings)} cross-certificate "
                f"finding(s); store {store}; portfolio {report.portfolio}")
     for o in report.failed:
-        typer.echo(f"  failed: {o.reason}")
+        typer.echo(f"  failed: {one_line(o.reason or '')}")
     for line in report.output_errors:
         _err(line)
     typer.echo("A desk check cannot show an installation is safe; "

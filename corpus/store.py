@@ -54,6 +54,7 @@ from extractor.records import (
     ValueKind,
 )
 from extractor.tokens import normalise_text, parse_value
+from extractor.untrusted import spreadsheet_cell
 
 _SQLITE_MAGIC = b"SQLite format 3\x00"
 EXPORT_TABLES = ("files", "certificates", "boards", "circuits", "findings", "check_runs",
@@ -682,8 +683,8 @@ class Corpus:
                     raise CorpusError(f"{self.path}: export {table}: "
                                       f"{e.__cause__ or e}".replace("\n", " ")) from None
             target = out_dir / f"{table}.{format}"
-            if format == "csv":
-                df.to_csv(target, index=False)
+            if format == "csv":  # text from PDFs: formula-like cells made spreadsheet-safe
+                df.map(spreadsheet_cell).to_csv(target, index=False)
             else:
                 df.to_parquet(target, index=False)
             written.append(target)
