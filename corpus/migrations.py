@@ -173,9 +173,17 @@ ALTER TABLE certificates ADD COLUMN profile_name TEXT;
 ALTER TABLE certificates ADD COLUMN profile TEXT  -- JSON: checks.profile.Profile.to_dict()
 """
 
+# a board-level RCD (RCD main switch, or the RCD of a split-load board) and the ways it protects
+BOARD_FIELDS_V3 = ("board_rcd_idn", "board_rcd_ways")
+_V3 = "\n".join(
+    f"ALTER TABLE boards ADD COLUMN {f}_{col} {kind};"
+    for f in BOARD_FIELDS_V3 for col, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
+)
+
 MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (1, "files, certificates, boards, circuits, findings, similarity index", _V1),
     (2, "certificates: rule profile used (profile_name, profile JSON)", _V2),
+    (3, "boards: board RCD IΔn and the ways it protects (split-load boards)", _V3),
 )
 
 LATEST = MIGRATIONS[-1][0]
