@@ -340,8 +340,9 @@ def rcd_protection(circuit: Circuit, board: Board | None = None) -> RcdProtectio
     """The one answer to "is this circuit RCD-protected?", or None when nothing says so.
 
     In order: an IΔn recorded on the row; an RCBO (BS EN 61009, or "RCBO" written in the
-    device cells, with an IΔn written there); an RCCB as the circuit's device; a board RCD
-    (RCD main switch or split-load RCD) over the circuit's way; an RCD trip time on the row.
+    device cells, with an IΔn written there); an RCCB as the circuit's device, or an RCD
+    standard (BS EN 61008/61009/62423) in the row's RCD standard cell; a board RCD (RCD main
+    switch or split-load RCD) over the circuit's way; an RCD trip time on the row.
     """
     idn = circuit.number("rcd_idn")
     device = parse_device(circuit)
@@ -351,6 +352,9 @@ def rcd_protection(circuit: Circuit, board: Board | None = None) -> RcdProtectio
         return RcdProtection("rcbo", device.idn_ma)
     if device.family is DeviceFamily.RCD:
         return RcdProtection("rccb", device.idn_ma)
+    if normalise_standard(circuit.text("rcd_standard"))[1] in (DeviceFamily.RCD,
+                                                               DeviceFamily.RCBO):
+        return RcdProtection("rccb", None)
     board_idn = board_rcd_covers(board, circuit)
     if board_idn is not None:
         return RcdProtection("board", board_idn)

@@ -334,3 +334,10 @@ def test_one_rcd_definition_for_loop_and_rcd_checks() -> None:
     board = cert.boards[0]
     circuit = board.circuits[0]
     assert loop._has_rcd(circuit, board) is rcd.has_rcd(circuit, board) is True
+
+
+def test_rcd_standard_cell_counts_as_rcd_protection() -> None:
+    """An RCD standard written in the row's RCD standard cell (A2:2022 model schedule)."""
+    cert = make_certificate([{"device_type": "B", "rating": "32", "rcd_standard": "61008"}])
+    found = rcd_protection(cert.boards[0].circuits[0], cert.boards[0])
+    assert found is not None and found.source == "rccb"
