@@ -182,6 +182,14 @@ _V3 = "\n".join(
     for part, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
 )
 
+# a board-level RCD (RCD main switch, or the RCD of a split-load board) and the ways it protects
+BOARD_FIELDS_V4 = ("board_rcd_idn", "board_rcd_ways")
+_V4 = "\n".join(
+    f"ALTER TABLE boards ADD COLUMN {f}_{part} {kind};"
+    for f in BOARD_FIELDS_V4
+    for part, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
+)
+
 # One findings table for every finding: per certificate (stage 'certificate', stored with the
 # certificate) and across certificates (stage 'corpus', replaced by each cross-certificate
 # phase), with severities as checks.model.Severity slugs and the other certificates by content
@@ -189,8 +197,8 @@ _V3 = "\n".join(
 # before this migration keep a verdict mapped from their worst finding ('clean' and 'note'
 # become 'incomplete' when the schedule had no circuits or a problem was recorded, else
 # 'no_concerns'); the next batch over them decides it again with the cross-certificate checks.
-_V4 = """
-CREATE TABLE findings_v3 (
+_V5 = """
+CREATE TABLE findings_v5 (
     id             INTEGER PRIMARY KEY,
     cert_id        INTEGER NOT NULL REFERENCES certificates(id) ON DELETE CASCADE,
     stage          TEXT NOT NULL CHECK (stage IN ('certificate', 'corpus')),
@@ -205,7 +213,7 @@ CREATE TABLE findings_v3 (
     related        TEXT NOT NULL,             -- JSON list of the other certificates' names
     related_sha256 TEXT NOT NULL DEFAULT '[]' -- JSON list of their content hashes
 );
-INSERT INTO findings_v3 (id, cert_id, stage, check_id, severity, certificate, message, reference,
+INSERT INTO findings_v5 (id, cert_id, stage, check_id, severity, certificate, message, reference,
     board, circuit, field, recorded, expected, tolerance, page, x0, top, x1, bottom, preview,
     related)
 SELECT id, cert_id, 'certificate', check_id,
@@ -215,12 +223,12 @@ SELECT id, cert_id, 'certificate', check_id,
     page, x0, top, x1, bottom, preview, related
 FROM findings;
 DROP TABLE findings;
-ALTER TABLE findings_v3 RENAME TO findings;
+ALTER TABLE findings_v5 RENAME TO findings;
 CREATE INDEX findings_cert ON findings(cert_id, stage);
 CREATE INDEX findings_check ON findings(check_id);
 
-ALTER TABLE certificates ADD COLUMN verdict_v3 TEXT;
-UPDATE certificates SET verdict_v3 = CASE verdict
+ALTER TABLE certificates ADD COLUMN verdict_v5 TEXT;
+UPDATE certificates SET verdict_v5 = CASE verdict
     WHEN 'impossible' THEN 'not_credible'
     WHEN 'breach' THEN 'fails_requirements'
     WHEN 'query' THEN 'queries'
@@ -229,14 +237,15 @@ UPDATE certificates SET verdict_v3 = CASE verdict
               THEN 'incomplete' ELSE 'no_concerns' END
 END;
 ALTER TABLE certificates DROP COLUMN verdict;
-ALTER TABLE certificates RENAME COLUMN verdict_v3 TO verdict
+ALTER TABLE certificates RENAME COLUMN verdict_v5 TO verdict
 """
 
 MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (1, "files, certificates, boards, circuits, findings, similarity index", _V1),
     (2, "certificates: rule profile used (profile_name, profile JSON)", _V2),
     (3, "circuits: RCD standard and rating, IR neutral-earth, SPD type and indicator", _V3),
-    (4, "one findings table (stage, severity slugs, related hashes); verdict keys", _V4),
+    (4, "boards: board RCD IΔn and the ways it protects (split-load boards)", _V4),
+    (5, "one findings table (stage, severity slugs, related hashes); verdict keys", _V5),
 )
 
 LATEST = MIGRATIONS[-1][0]
