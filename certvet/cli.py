@@ -1,18 +1,31 @@
 """The `certvet` command: a thin layer over certvet.api.
 
 Heavy libraries are imported inside the commands, so `certvet --help` answers quickly.
-Exit status of `audit`/`demo`: 0 no breach or impossible result found; 1 at least one;
-3 at least one input could not be audited (2 is a usage error, from typer).
+Exit codes: certvet/exitcodes.py (one table, shown in README).
 """
 
 from __future__ import annotations
 
+import os
 import sys
 from enum import StrEnum
 from pathlib import Path
-from typing import TYPE_CHECKING, Annotated, Optional
+from typing import TYPE_CHECKING, Annotated, Any, Optional
 
 import typer
+
+from certvet.console import err as _err
+from certvet.console import make_out_dir as _make_out_dir
+from certvet.console import one_line
+from certvet.exitcodes import (
+    DEFAULT_FAIL_ON,
+    EXIT_CLEAN,
+    EXIT_FAILED,
+    EXIT_FINDINGS,
+    EXIT_INTERNAL,
+    EXIT_USAGE,
+    parse_fail_on,
+)
 
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from certvet.api import AuditResult
@@ -32,28 +45,10 @@ app = typer.Typer(
     pretty_exceptions_enable=False,
 )
 
-EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, EXIT_FAILED = 0, 1, 2, 3
-
-
 class EngineChoice(StrEnum):
     pdfium = "pdfium"
     pdfplumber = "pdfplumber"
     lattice = "lattice"
-
-
-def _err(message: str) -> None:
-    typer.echo(f"certvet: {message}", err=True)
-
-
-def _make_out_dir(out: Path) -> None:
-    """Create the reports folder up front: one line and exit 3 when it cannot be made."""
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        why = "a file of that name is in the way" if isinstance(exc, FileExistsError) else (
-            exc.strerror or str(exc))
-        _err(f"{out}: cannot create the reports folder: {why}")
-        raise typer.Exit(EXIT_FAILED) from None
 
 
 def _load_inputs(
@@ -79,6 +74,7 @@ def _run_batch(
     engine: str | None,
     password: str | None,
     quiet: bool,
+    fail_on: frozenset[Any],
 ) -> int:
     from certvet.api import audit_many
 
@@ -89,12 +85,15 @@ def _run_batch(
         if error and quiet:
             _err(error)  # --quiet prints nothing but errors
         if error:
-            lines.append(f"{'FAILED':<22} {error}")
+            lines.append(f"{'FAILED':<22} {one_line(error)}")
         else:
             assert result is not None  # audit_many gives a result or an error
             v = result.verdict
             n = len([f for f in result.results.findings if not f.preview])
-            lines.append(f"{v.label.upper():<22} {path}  ({n} findings, layout {result.layout})")
+            lines.append(
+                f"{v.label.upper():<22} {one_line(str(path))}  ({n} findings, layout "
+                f"{result.layout})"
+            )
         if not show_bar and not quiet:
             typer.echo(lines[-1])
 
@@ -129,14 +128,15 @@ def _run_batch(
             password=password,
             on_done=done,
         )
-    breach = any(r.has_breach for r in summary.audited)
+    breach = any(f.severity in fail_on and not f.preview
+                 for r in summary.audited for f in r.results.findings)
     if not quiet:
         typer.echo(
             f"\n{summary.total} file(s): {len(summary.audited)} audited, "
             f"{len(summary.failed)} failed; reports in {out_dir}"
         )
         for f in summary.failed:
-            typer.echo(f"  failed: {f.reason}")
+            typer.echo(f"  failed: {one_line(f.reason)}")
         typer.echo(
             "A desk check cannot show an installation is safe; "
             "defer to BS 7671 and licensed practice."
@@ -177,6 +177,11 @@ def audit(
         typer.Option("--password", help="Password for encrypted PDFs."),
     ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing but errors.")] = False,
+    fail_on: Annotated[
+        str, typer.Option("--fail-on", metavar="SEVERITIES",
+                          help="Severities that make the exit status 1, comma-separated "
+                               "(note, query, breach, impossible).")
+    ] = DEFAULT_FAIL_ON,
 ) -> None:
     """Audit certificates: extract the schedule, run every check, write HTML/JSON/CSV reports."""
     from certvet.api import expand_inputs
@@ -184,13 +189,19 @@ def audit(
     if not layout:
         _err("give at least one --layout (a layout file or a folder of them)")
         raise typer.Exit(EXIT_USAGE)
+    try:
+        severities = parse_fail_on(fail_on)
+    except ValueError as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_USAGE) from None
     layouts, prof = _load_inputs(layout, profile)
     files = expand_inputs(pdfs)
     if not files:
         _err(f"{', '.join(str(p) for p in pdfs)}: no PDF files found")
         raise typer.Exit(EXIT_FAILED)
     _make_out_dir(out)
-    code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet)
+    code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet,
+                      severities)
     raise typer.Exit(code)
 
 
@@ -208,12 +219,12 @@ def demo(
     if not any(DEMO_DIR.glob("*.pdf")):
         _err(f"{DEMO_DIR}: no demo PDFs found (run: python fixtures/generate.py)")
         raise typer.Exit(EXIT_FAILED)
-    code = EXIT_CLEAN
+    code: int = EXIT_CLEAN
     try:
         batch(
             [DEMO_DIR], layout=[DEMO_LAYOUTS], store=out / "corpus.sqlite", out=out,
             workers=None, timeout=120.0, memory_mb=2048, retry_failed=False, scheduler=None,
-            profile=None, password=None, quiet=False,
+            profile=None, password=None, quiet=False, fail_on=DEFAULT_FAIL_ON,
         )
     except typer.Exit as done:
         code = done.exit_code
@@ -283,15 +294,15 @@ def check_layout(
         found = sorted(p.rglob("*.toml")) if p.is_dir() else [p]
         if not found:
             bad += 1
-            typer.echo(f"invalid  {p}: no layout files (*.toml) in this folder")
+            typer.echo(f"invalid  {one_line(str(p))}: no layout files (*.toml) in this folder")
         files.extend(found)
     for f in files:
         try:
             lay = load_layout(f)
-            typer.echo(f"ok       {f} (form {lay.name}, {len(lay.columns)} columns)")
+            typer.echo(f"ok       {one_line(str(f))} (form {lay.name}, {len(lay.columns)} columns)")
         except LayoutError as exc:
             bad += 1
-            typer.echo(f"invalid  {exc}")
+            typer.echo(f"invalid  {one_line(str(exc))}")
     raise typer.Exit(EXIT_USAGE if bad else EXIT_CLEAN)
 
 
@@ -313,7 +324,18 @@ _mount_optional()
 
 
 def main() -> None:
-    app()
+    """The console entry point: an uncaught error is one line and its own exit code, never a
+    traceback (CERTVET_DEBUG=1 shows it) and never the code of a finding."""
+    try:
+        app()
+    except KeyboardInterrupt:
+        _err("interrupted")
+        sys.exit(130)
+    except Exception as exc:  # a bug: say so in one line
+        if os.environ.get("CERTVET_DEBUG"):
+            raise
+        _err(f"internal error ({type(exc).__name__}: {exc}); set CERTVET_DEBUG=1 for details")
+        sys.exit(EXIT_INTERNAL)
 
 
 if __name__ == "__main__":

@@ -7,22 +7,21 @@ from pathlib import Path
 import pytest
 from casekit import make_certificate
 
-from certvet.corpus import Corpus
-from certvet.corpus.crosscheck import (
+from checks.profile import DEFAULT_PROFILE, CheckSettings, Profile
+from checks.runner import CheckResults
+from corpus import Corpus
+from corpus.crosscheck import (
     COPIED,
     INSPECTOR_WORKLOAD,
     INSTRUMENT_WORKLOAD,
     NUMBER_REUSED,
     REPEATED,
-    CrossCheckOptions,
     party_stats,
     scan,
     workload,
 )
-from certvet.corpus.fingerprints import GRID, Reading, quantise, relation
-from certvet.corpus.synthetic import CertificateStream, generate
-from checks.profile import DEFAULT_PROFILE
-from checks.runner import CheckResults
+from corpus.fingerprints import GRID, Reading, quantise, relation
+from corpus.synthetic import CertificateStream, generate
 
 EMPTY = CheckResults(DEFAULT_PROFILE)
 
@@ -130,12 +129,13 @@ def test_planted_overload_day_found(planted) -> None:
 
 
 def _cert(number: str, address: str, date: str, readings: list[tuple[str, str, str]],
-          inspector: str = "Rosa Vane", serial: str = "MFT-5", ze: str = "0.30"):
+          inspector: str = "Rosa Vane", serial: str = "ZX-5", ze: str = "0.30"):
     circuits = [{"circuit_ref": str(i + 1), "r1_r2": a, "zs": b, "rcd_time": c}
                 for i, (a, b, c) in enumerate(readings)]
     cert = make_certificate(circuits, board={"ze": ze}, certificate={
         "cert_number": number, "address": address, "inspection_date": date,
-        "inspector": inspector, "instrument_serial": serial, "contractor": "Northspur Testing"})
+        "inspector": inspector, "instrument_serial": serial,
+        "contractor": "Northspur Testing (fictional)"})
     cert.sha256 = f"{number:0>64}"[-64:]
     cert.source = f"{number}.pdf"
     return cert
@@ -158,10 +158,16 @@ def test_repeat_of_previous_certificate_for_same_address(tmp_path: Path) -> None
         corpus.add(_cert("B1", "9 Vetch Lane, Lowmoor", "10/05/2019", OTHER), EMPTY)
         corpus.add(_cert("B2", "9 Vetch Lane, Lowmoor", "01/07/2024", FRESH), EMPTY)
         report = scan(corpus)
-    rep = [cf for cf in report.findings if cf.finding.check_id == REPEATED]
-    assert [(cf.finding.certificate, cf.finding.related) for cf in rep] == [("A2", ("A1",))]
-    assert rep[0].match.cert_a == later and rep[0].match.cert_b == first
-    assert rep[0].match.exact and rep[0].match.compared == 18
+    rep = sorted((cf for cf in report.findings if cf.finding.check_id == REPEATED),
+                 key=lambda cf: cf.finding.certificate)
+    # on both certificates, each naming the other; the 2019 one is the likely source
+    assert [(cf.finding.certificate, cf.finding.related) for cf in rep] == [
+        ("A1", ("A2",)), ("A2", ("A1",))]
+    assert rep[1].match.cert_a == later and rep[1].match.cert_b == first
+    assert rep[1].match.exact and rep[1].match.compared == 18
+    source = "the earlier (2019-05-10): the likely source"
+    assert f"this certificate is {source}" in rep[0].finding.message
+    assert f"certificate A1 is {source}" in rep[1].finding.message
     assert not any(cf.finding.check_id == COPIED for cf in report.findings)
 
 
@@ -194,10 +200,11 @@ def test_workload_limit_follows_the_options(tmp_path: Path) -> None:
     with Corpus(tmp_path / "c.sqlite") as corpus:
         for i in range(11):  # 11 certificates × 6 tested circuits = 66 on one day
             corpus.add(_cert(f"W{i}", f"{i} Saltings Way, Lowmoor", "14/03/2024", READINGS,
-                             serial=f"MFT-{i}"), EMPTY)
+                             serial=f"ZX-{i}"), EMPTY)
         corpus.add(_cert("W99", "99 Saltings Way, Lowmoor", "15/03/2024", READINGS), EMPTY)
         default = workload(corpus)  # 10 min a circuit, 10 h a day: at most 60
-        relaxed = workload(corpus, CrossCheckOptions(minutes_per_circuit=5))
+        relaxed = workload(corpus, Profile(checks={
+            INSPECTOR_WORKLOAD: CheckSettings(options={"minutes_per_circuit": 5.0})}))
     flagged = [cf.finding for cf in default]
     assert {f.check_id for f in flagged} == {INSPECTOR_WORKLOAD}
     assert sorted(f.certificate for f in flagged) == sorted(f"W{i}" for i in range(11))
@@ -218,7 +225,8 @@ def test_party_statistics(tmp_path: Path) -> None:
     assert stats["Priya Tallis"].share_zs_exactly_calculated < 0.5
     assert stats["Declan Rusk"].readings == 18
     assert sum(stats["Declan Rusk"].last_digit_counts) == 18
-    assert [(c.party, c.certificates) for c in contractors] == [("Northspur Testing", 2)]
+    assert [(c.party, c.certificates) for c in contractors] == [
+        ("Northspur Testing (fictional)", 2)]
 
 
 def test_nudged_value_shares_a_grid_cell() -> None:
