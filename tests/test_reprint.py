@@ -14,6 +14,7 @@ from __future__ import annotations
 import importlib.util
 import json
 import sys
+from collections.abc import Collection
 from functools import cache
 from pathlib import Path
 
@@ -36,6 +37,30 @@ ENGINES = ("pdfium", "pdfplumber")
 # (cairo), board and certificate labels 2.2 pt (MuPDF, a label spanning two fonts). Values
 # and findings must not move at all.
 BOX_TOLERANCE = 2.5
+
+
+# Re-prints whose writer destroyed text, checked by hand with poppler's pdftotext, which reads
+# them the same way (no engine can recover what the file no longer says). Strict: the day a
+# route or an engine reads one of them right, the test says so.
+LOST_TEXT = {
+    ("stacked-canvas-", "ghostscript"): "Ghostscript drops the text map of the em dash and ² "
+    "glyphs of reportlab's DejaVu subsets: the '—' label separators read U+FFFD",
+    ("stacked-canvas-", "mupdf"): "MuPDF drops the text map of the em dash and ² glyphs of "
+    "reportlab's DejaVu subsets: the '—' label separators read U+FFFD",
+    ("rotated-sheet-", "mupdf"): "MuPDF re-embeds LibreOffice's DejaVu subsets as CID fonts "
+    "with a text map that no longer fits the glyphs: over half the chars read as nothing",
+}
+DISAGREE_ON_LOST_TEXT = {("rotated-sheet-", "mupdf")}  # glyphs without text, split differently
+
+
+def _lost(pdf: str, route: str, among: Collection[tuple[str, str]] = LOST_TEXT.keys()
+          ) -> list[pytest.MarkDecorator]:
+    """A strict xfail for a re-print in `LOST_TEXT` (limited to `among`), else no mark."""
+    name = Path(pdf).name
+    for (prefix, lost_route), reason in LOST_TEXT.items():
+        if name.startswith(prefix) and route == lost_route and (prefix, lost_route) in among:
+            return [pytest.mark.xfail(reason=reason, strict=True)]
+    return []
 
 
 def _generator():  # the fixture script, loaded under its own name (every folder has one)
@@ -79,8 +104,8 @@ def _layout_for(source: str) -> Layout:
 def _findings(cert: Certificate) -> list[tuple[object, ...]]:
     found = run_checks(cert).findings
     return sorted(
-        (f.check_id, f.severity.slug, f.board, f.circuit, f.field, f.recorded, f.expected,
-         f.message, f.page)
+        (f.check_id, f.severity.slug, f.board or "", f.circuit or "", f.field or "",
+         f.recorded or "", f.expected or "", f.message, f.page or 0)
         for f in found
     )
 
@@ -94,7 +119,8 @@ def _read(pdf: str, source: str, engine: str) -> tuple[list[tuple[object, ...]],
 
 
 def _params() -> list[object]:
-    return [pytest.param(e["pdf"], e["source"], engine, id=f"{Path(e['pdf']).name}-{engine}")
+    return [pytest.param(e["pdf"], e["source"], engine, id=f"{Path(e['pdf']).name}-{engine}",
+                         marks=_lost(e["pdf"], e["route"]))
             for e in ENTRIES for engine in ENGINES]
 
 
@@ -115,7 +141,10 @@ def test_reprint_reads_as_the_original(pdf: str, source: str, engine: str) -> No
     assert find_r == find_o
 
 
-@pytest.mark.parametrize("pdf", [e["pdf"] for e in ENTRIES], ids=[Path(e["pdf"]).name
-                                                                  for e in ENTRIES])
+@pytest.mark.parametrize("pdf", [
+    pytest.param(e["pdf"], id=Path(e["pdf"]).name,
+                 marks=_lost(e["pdf"], e["route"], DISAGREE_ON_LOST_TEXT))
+    for e in ENTRIES
+])
 def test_engines_agree_on_the_reprint(pdf: str) -> None:
     assert_engines_agree(ROOT / pdf)

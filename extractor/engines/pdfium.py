@@ -303,6 +303,7 @@ class _Reader:
         for i in range(n):
             key = obj_address(tp_address, i)
             if key is None:  # a char PDFium generated (line break, implied space)
+                pending = None
                 continue
             ch = text[i]
             if ch in _SPECIAL_TEXT:
@@ -342,11 +343,14 @@ class _Reader:
                                   prev.bottom, prev.size, prev.fontname, prev.upright,
                                   prev.direction)
                 out[-1] = merged
+                pending = None
                 continue
             last_x, last_y = x, y
             if pending is not None:
-                # the char before had no text, so its advance could not be looked up by text:
-                # it is the way from its origin to this one's (pdfminer's /Widths advance)
+                # the char just before (next in the text, same text object) had no text, so
+                # its advance could not be looked up by text: it is the way from its origin to
+                # this one's, as the PDF's /Widths put it (PDFium's loose box may use the
+                # embedded font's own advance); a line break in between leaves the loose box
                 k, px, py, pkey = pending
                 pending = None
                 if pkey == key:
@@ -357,13 +361,15 @@ class _Reader:
                                                               fs, descent)
                         out[k] = Char(prev.text, bx0, btop, bx1, bbottom, bbottom - btop,
                                       prev.fontname, prev.upright, prev.direction)
-            if ch == _UNREADABLE:
+            assert info is not None
+            if ch == _UNREADABLE:  # glyphs without text share the mark: never cached
                 pending = (len(out), x, y, key)
-            # the advance (em fraction) from the font's width table, cached per font and char
-            width = widths.get(ch)
-            if width is None:
-                assert info is not None
-                width = widths[ch] = self._width(tp, i, info, ch, rect_ref)
+                width = self._width(tp, i, info, ch, rect_ref)
+            else:
+                # the advance (em fraction) from the font's width table, per font and char
+                width = widths.get(ch)
+                if width is None:
+                    width = widths[ch] = self._width(tp, i, info, ch, rect_ref)
             if upright:
                 by = y + d * fs * descent
                 x0 = x - ox0
