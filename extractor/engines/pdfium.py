@@ -367,9 +367,10 @@ class _Reader:
                 width = self._width(tp, i, info, ch, rect_ref)
             else:
                 # the advance (em fraction) from the font's width table, per font and char
-                width = widths.get(ch)
-                if width is None:
-                    width = widths[ch] = self._width(tp, i, info, ch, rect_ref)
+                known = widths.get(ch)
+                if known is None:
+                    known = widths[ch] = self._width(tp, i, info, ch, rect_ref)
+                width = known
             if upright:
                 by = y + d * fs * descent
                 x0 = x - ox0
