@@ -16,6 +16,10 @@ Format history:
   or null) and ``readings`` (board, circuit, field, here, there, relation — ``equal``, ``near``
   for ±1 in the last printed digit, or ``different`` — board_there, circuit_there). Version 1
   documents are still read by ``certificate_from_json``.
+* 3 — the ``related`` findings count: ``verdict`` and ``counts`` include them, the verdict key
+  ``readings_copied`` (reports/verdict.py) is new, and ``verdict.copies`` lists the messages
+  of the readings-match findings (each naming the other certificate and the likely source).
+  Versions 1 and 2 are still read.
 
 ``certificate_from_json`` rebuilds the ``Certificate`` from a document, so checks can be
 re-run on a saved report without the PDF.
@@ -45,8 +49,8 @@ from extractor.records import (
 from reports.model import RelatedFinding
 from reports.verdict import decide
 
-FORMAT_VERSION = 2
-READABLE_VERSIONS = (1, 2)
+FORMAT_VERSION = 3
+READABLE_VERSIONS = (1, 2, 3)
 
 
 def _box(box: Box | None) -> dict[str, Any] | None:
@@ -67,14 +71,15 @@ def report_dict(
     related: Sequence[RelatedFinding] = (),
 ) -> dict[str, Any]:
     profile = profile or results.profile
+    counted = results.with_findings(rf.finding for rf in related)  # verdict and counts
     if generated_at is None:
         generated_at = datetime.now(UTC).isoformat(timespec="seconds")
     return {
         "format_version": FORMAT_VERSION,
         "certvet_version": certvet_version,
         "generated_at": generated_at,
-        "verdict": decide(cert, results).to_dict(),
-        "counts": {s.slug: results.count(s) for s in sorted(Severity, reverse=True)},
+        "verdict": decide(cert, counted).to_dict(),
+        "counts": {s.slug: counted.count(s) for s in sorted(Severity, reverse=True)},
         "certificate": {
             "name": cert.name,
             "source": cert.source,
