@@ -9,6 +9,7 @@ from dataclasses import dataclass
 
 from checks import tables
 from checks.base import CircuitCheck, fmt, option
+from checks.catalogue.loop import earthing_of
 from checks.devices import Device, is_ring, parse_device, rcd_protection, ring_or_radial_unknown
 from checks.model import Finding, Severity
 from checks.registry import register
@@ -209,14 +210,16 @@ def fuse_i2t(device: Device, current_a: float) -> tuple[float, float, str] | Non
 
 
 def adiabatic(circuit: Circuit, device: Device, u0_v: float, breaker_time_s: float,
-              board: Board | None = None, rcd_time_s: float = 0.3) -> Adiabatic | None:
+              board: Board | None = None, rcd_time_s: float = 0.3,
+              tt: bool = False) -> Adiabatic | None:
     """The adiabatic minimum cpc size for a circuit, or None when it cannot be worked out.
 
     I = U0/Zs (measured Zs). Circuit-breakers: t = breaker_time_s, valid only when I is at
     or above the instantaneous tripping current (5/10/20 × In for B/C/D). Fuses: I²t from
-    the fuse's characteristic at the worst case (fuse_i2t). Below those, an RCD protecting
-    the circuit (checks.devices.rcd_protection) clears an earth fault current of at least
-    its IΔn within rcd_time_s (a TT fault of a few amperes); otherwise None.
+    the fuse's characteristic at the worst case (fuse_i2t). Below those, on a TT
+    installation (tt), an RCD protecting the circuit (checks.devices.rcd_protection) clears
+    an earth fault current of at least its IΔn within rcd_time_s (a fault of a few
+    amperes); otherwise None.
     """
     zs = circuit.number("zs")
     if zs is None or zs <= 0 or device.rating is None:
@@ -234,7 +237,7 @@ def adiabatic(circuit: Circuit, device: Device, u0_v: float, breaker_time_s: flo
     if got is None:
         rcd = rcd_protection(circuit, board)
         idn_a = (rcd.idn_ma if rcd is not None and rcd.idn_ma is not None else 30.0) / 1000
-        if rcd is None or current < idn_a:
+        if not tt or rcd is None or current < idn_a:
             return None
         got = (current**2 * rcd_time_s, rcd_time_s,
                f"the RCD disconnects within {rcd_time_s:g} s (BS EN 61008-1/61009-1 at IΔn)")
@@ -255,7 +258,7 @@ class CpcAdiabatic(CircuitCheck):
     or above the fuse's 0.4 s current Ia (derived from the tabulated maximum Zs, Ia = 0.95 ×
     230 / Zs max) that is Ia² × 0.4 s, since a fuse's I²t does not rise with current; below
     it, the time read between the 0.4 s and 5 s points. Where the overcurrent device is
-    slow (a TT fault of a few amperes) and an RCD protects the circuit, t is the RCD's
+    slow (on TT: a fault of a few amperes) and an RCD protects the circuit, t is the RCD's
     300 ms. The recorded cpc smaller than S is queried.
 
     Why it matters:
@@ -324,7 +327,7 @@ class CpcAdiabatic(CircuitCheck):
             return None
         o = self.options
         result = adiabatic(circuit, parse_device(circuit), o.u0_v, o.breaker_time_s, board,
-                           o.rcd_time_s)
+                           o.rcd_time_s, earthing_of(cert, board) == "TT")
         if result is None:
             return None
         if cpc >= result.min_cpc_mm2 - 1e-9:
@@ -393,8 +396,8 @@ class CpcBelowTable547(CircuitCheck):
         if cpc >= minimum - 1e-9:
             return []
         defaults = CpcAdiabatic.Options()
-        if adiabatic(circuit, parse_device(circuit), defaults.u0_v,
-                     defaults.breaker_time_s, board, defaults.rcd_time_s) is not None:
+        if adiabatic(circuit, parse_device(circuit), defaults.u0_v, defaults.breaker_time_s,
+                     board, defaults.rcd_time_s, earthing_of(cert, board) == "TT") is not None:
             return []  # the adiabatic sum can be made: cpc-adiabatic decides
         return [
             self.make(
