@@ -55,6 +55,7 @@ from certvet.workers import Limits, Outcome, run_isolated
 from checks.profile import DEFAULT_PROFILE, Profile
 from extractor.errors import InputError
 from extractor.layout import Layout
+from reports.verdict import NOT_AUDITED
 
 if TYPE_CHECKING:
     from certvet.api import AuditResult
@@ -100,7 +101,7 @@ class FileOutcome:
                     f"layout {self.layout})")
         if self.status is Status.SKIPPED:
             return f"{'SKIPPED':<22} {self.reason}"
-        return f"{'FAILED':<22} {self.reason}"
+        return f"{NOT_AUDITED.upper():<22} {self.reason}"
 
 
 @dataclass
@@ -288,7 +289,7 @@ def run_batch(
             row = stored.get(sha)
             if row is not None and not (retry_failed and row.status == "failed"):
                 failed_before = row.status == "failed"
-                what = (f"failed before ({_reason_only(row.failure_reason)}); "
+                what = (f"{NOT_AUDITED} before ({_reason_only(row.failure_reason)}); "
                         "--retry-failed runs it again" if failed_before
                         else f"already audited ({row.audited_at}, layout {row.layout})")
                 emit(FileOutcome(path, Status.SKIPPED, sha, reason=_one_line(f"{path}: {what}"),
