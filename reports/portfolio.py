@@ -34,6 +34,7 @@ from pathlib import Path
 
 from markupsafe import Markup
 
+from checks.catalogue.across import ScheduleCopiedFromOtherAddress
 from reports import charts
 
 SEVERITY_POINTS = {"impossible": 10.0, "breach": 5.0, "query": 2.0, "note": 0.0}
@@ -46,7 +47,7 @@ CROSS_POINTS = {
     "inspector-workload-implausible": 6.0,
     "instrument-workload-implausible": 6.0,
 }
-COPIED = "schedule-copied-from-other-address"
+COPIED = ScheduleCopiedFromOtherAddress.id
 INCOMPLETE_POINTS = 2.0
 SHOW_PAIR_ROWS = 30  # aligned circuits shown per pair before "and N more"
 FIELD_ORDER = ("r1", "rn", "r2", "r1_r2", "r1_rn", "r2_only", "ir_live_live", "ir_live_earth",
