@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import os
 import sys
-from enum import StrEnum
 from pathlib import Path
 from typing import TYPE_CHECKING, Annotated, Any, Optional
 
@@ -26,6 +25,7 @@ from certvet.exitcodes import (
     EXIT_USAGE,
     parse_fail_on,
 )
+from extractor.engines.names import EngineName
 
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from certvet.api import AuditResult
@@ -45,10 +45,7 @@ app = typer.Typer(
     pretty_exceptions_enable=False,
 )
 
-class EngineChoice(StrEnum):
-    pdfium = "pdfium"
-    pdfplumber = "pdfplumber"
-    lattice = "lattice"
+EngineChoice = EngineName  # the names defined once, in extractor/engines/names.py
 
 
 def _load_inputs(
