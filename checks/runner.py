@@ -43,15 +43,15 @@ def run_checks(cert: Certificate, profile: Profile | None = None) -> CheckResult
         check = profile.instantiate(cls)
         options = dataclasses.asdict(check.options)
         if not settings.enabled:
-            results.runs.append(CheckRun(cls.id, cls.title, Outcome.DISABLED, 0, 0, options))
+            results.runs.append(CheckRun(cls.id, cls.title, Outcome.TURNED_OFF, 0, 0, options))
             continue
         applied, found = check.run(cert)
         if found:
-            outcome = Outcome.FAILED
+            outcome = Outcome.FOUND
         elif applied:
-            outcome = Outcome.PASSED
+            outcome = Outcome.RAISED_NOTHING
         else:
-            outcome = Outcome.NOT_APPLICABLE
+            outcome = Outcome.DID_NOT_APPLY
         results.runs.append(CheckRun(cls.id, cls.title, outcome, applied, len(found), options))
         results.findings.extend(found)
     results.findings.sort(
