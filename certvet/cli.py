@@ -14,8 +14,11 @@ from typing import TYPE_CHECKING, Annotated, Optional
 
 import typer
 
+from certvet import cli_drafting as draft_opts
+
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from certvet.api import AuditResult
+    from certvet.drafting import DraftOptions
     from checks.profile import Profile
     from extractor.layout import Layout
 
@@ -79,6 +82,7 @@ def _run_batch(
     engine: str | None,
     password: str | None,
     quiet: bool,
+    drafting: DraftOptions | None = None,
 ) -> int:
     from certvet.api import audit_many
 
@@ -95,6 +99,8 @@ def _run_batch(
             v = result.verdict
             n = len([f for f in result.results.findings if not f.preview])
             lines.append(f"{v.label.upper():<22} {path}  ({n} findings, layout {result.layout})")
+            if result.certificate.drafted is not None:
+                lines[-1] += f"\n{'':<22} {result.certificate.drafted.message(str(path))}"
         if not show_bar and not quiet:
             typer.echo(lines[-1])
 
@@ -116,6 +122,7 @@ def _run_batch(
                 engine=engine,
                 password=password,
                 on_done=step,
+                drafting=drafting,
             )
         for ln in lines:
             typer.echo(ln)
@@ -128,6 +135,7 @@ def _run_batch(
             engine=engine,
             password=password,
             on_done=done,
+            drafting=drafting,
         )
     breach = any(r.has_breach for r in summary.audited)
     if not quiet:
@@ -159,7 +167,8 @@ def audit(
             "-l",
             metavar="LAYOUT",
             help="Layout file or folder of layouts; repeatable. "
-            "Each file's form is recognised automatically among them.",
+            "Each file's form is recognised automatically among them; a file none recognises "
+            "is read with a layout drafted from it (see --no-draft-unknown-forms).",
         ),
     ] = [],  # noqa: B006
     out: Annotated[Path, typer.Option("--out", "-o", help="Folder for the reports.")] = Path(
@@ -177,20 +186,23 @@ def audit(
         typer.Option("--password", help="Password for encrypted PDFs."),
     ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing but errors.")] = False,
+    draft_unknown: draft_opts.DraftUnknown = True,
+    min_draft_confidence: draft_opts.MinConfidence = draft_opts.READ_AT,
+    trusted_draft_confidence: draft_opts.TrustedConfidence = draft_opts.TRUSTED_AT,
 ) -> None:
     """Audit certificates: extract the schedule, run every check, write HTML/JSON/CSV reports."""
     from certvet.api import expand_inputs
 
-    if not layout:
-        _err("give at least one --layout (a layout file or a folder of them)")
-        raise typer.Exit(EXIT_USAGE)
     layouts, prof = _load_inputs(layout, profile)
     files = expand_inputs(pdfs)
     if not files:
         _err(f"{', '.join(str(p) for p in pdfs)}: no PDF files found")
         raise typer.Exit(EXIT_FAILED)
     _make_out_dir(out)
-    code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet)
+    options = draft_opts.draft_options(draft_unknown, min_draft_confidence,
+                                       trusted_draft_confidence)
+    code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet,
+                      options)
     raise typer.Exit(code)
 
 

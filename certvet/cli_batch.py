@@ -13,6 +13,8 @@ from typing import Annotated, Any, Optional
 
 import typer
 
+from certvet import cli_drafting as draft_opts
+
 EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, EXIT_FAILED = 0, 1, 2, 3
 
 
@@ -38,7 +40,9 @@ def batch(
         list[Path],
         typer.Option("--layout", "-l", metavar="LAYOUT",
                      help="Layout file or folder of layouts; repeatable. "
-                     "Each file's form is recognised automatically among them."),
+                     "Each file's form is recognised automatically among them; files of a form "
+                     "none recognises share a layout drafted from the first of them "
+                     "(see --no-draft-unknown-forms)."),
     ] = [],  # noqa: B006
     store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")
                      ] = Path("corpus.sqlite"),
@@ -63,6 +67,9 @@ def batch(
         Optional[str], typer.Option("--password", help="Password for encrypted PDFs.")  # noqa: UP045
     ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print only the totals.")] = False,
+    draft_unknown: draft_opts.DraftUnknown = True,
+    min_draft_confidence: draft_opts.MinConfidence = draft_opts.READ_AT,
+    trusted_draft_confidence: draft_opts.TrustedConfidence = draft_opts.TRUSTED_AT,
 ) -> None:
     """Audit a folder of certificates into the corpus: resumable, in parallel, never stopped by
     one bad file; then cross-certificate checks and a portfolio page."""
@@ -72,11 +79,8 @@ def batch(
     from checks.profile import DEFAULT_PROFILE, ProfileError, load_profile
     from extractor.layout import LayoutError, load_layouts
 
-    if not layout:
-        _err("give at least one --layout (a layout file or a folder of them)")
-        raise typer.Exit(EXIT_USAGE)
     try:
-        layouts = load_layouts(layout)
+        layouts = load_layouts(layout) if layout else []
         prof = load_profile(profile) if profile else DEFAULT_PROFILE
     except (LayoutError, ProfileError) as exc:
         _err(str(exc))
@@ -131,7 +135,9 @@ def batch(
         report = run_batch(inputs, layouts=layouts, store=store, out_dir=out, workers=workers,
                            limits=Limits(seconds=timeout, memory_mb=memory_mb), profile=prof,
                            password=password, on_event=on_event, retry_failed=retry_failed,
-                           scheduler=scheduler, on_start=on_start)
+                           scheduler=scheduler, on_start=on_start,
+                           drafting=draft_opts.draft_options(draft_unknown, min_draft_confidence,
+                                                  trusted_draft_confidence))
     except (CorpusError, ConnectionError) as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_FAILED) from None

@@ -16,6 +16,10 @@ Format history:
   or null) and ``readings`` (board, circuit, field, here, there, relation — ``equal``, ``near``
   for ±1 in the last printed digit, or ``different`` — board_there, circuit_there). Version 1
   documents are still read by ``certificate_from_json``.
+* 3 — adds ``certificate.drafted_layout``: null, or how the layout that read the certificate
+  was drafted on the fly because no layout recognised the form (``sample``: the PDF it was
+  drafted from, ``confidence``, ``trusted_at``: the trusted threshold, ``trusted``,
+  ``saved_to``: the drafted layout file, or null). Versions 1 and 2 are still read.
 
 ``certificate_from_json`` rebuilds the ``Certificate`` from a document, so checks can be
 re-run on a saved report without the PDF.
@@ -38,6 +42,7 @@ from extractor.records import (
     Cell,
     Certificate,
     Circuit,
+    DraftedLayoutNote,
     ExtractionProblem,
     Value,
     ValueKind,
@@ -45,8 +50,8 @@ from extractor.records import (
 from reports.model import RelatedFinding
 from reports.verdict import decide
 
-FORMAT_VERSION = 2
-READABLE_VERSIONS = (1, 2)
+FORMAT_VERSION = 3
+READABLE_VERSIONS = (1, 2, 3)
 
 
 def _box(box: Box | None) -> dict[str, Any] | None:
@@ -83,6 +88,7 @@ def report_dict(
             "engine": cert.engine,
             "page_count": cert.page_count,
             "cells": _cells(cert.cells),
+            "drafted_layout": cert.drafted.to_dict() if cert.drafted is not None else None,
         },
         "boards": [
             {
@@ -201,6 +207,8 @@ def certificate_from_json(data: dict[str, Any]) -> Certificate:
         engine=c["engine"],
         page_count=c["page_count"],
         cells=_cells_from(c["cells"]),
+        drafted=DraftedLayoutNote.from_dict(c["drafted_layout"]) if c.get("drafted_layout")
+        else None,
     )
     for b in data["boards"]:
         board = Board(ref=b["ref"], cells=_cells_from(b["cells"]), page=b["page"])
