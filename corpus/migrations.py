@@ -173,9 +173,19 @@ ALTER TABLE certificates ADD COLUMN profile_name TEXT;
 ALTER TABLE certificates ADD COLUMN profile TEXT  -- JSON: checks.profile.Profile.to_dict()
 """
 
+# circuit fields of the A2:2022 model schedule added to extractor/fields.py: the RCD's own
+# standard and rating, insulation neutral-earth, SPD type and status indicator
+CIRCUIT_FIELDS_V3 = ("rcd_standard", "rcd_rating", "ir_neutral_earth", "spd_type", "spd_indicator")
+_V3 = "\n".join(
+    f"ALTER TABLE circuits ADD COLUMN {f}_{part} {kind};"
+    for f in CIRCUIT_FIELDS_V3
+    for part, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
+)
+
 MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (1, "files, certificates, boards, circuits, findings, similarity index", _V1),
     (2, "certificates: rule profile used (profile_name, profile JSON)", _V2),
+    (3, "circuits: RCD standard and rating, IR neutral-earth, SPD type and indicator", _V3),
 )
 
 LATEST = MIGRATIONS[-1][0]
