@@ -21,8 +21,7 @@ from typing import TYPE_CHECKING, Annotated
 import typer
 
 from certvet.console import err as _err
-from certvet.console import one_line
-from certvet.console import plain_console
+from certvet.console import one_line, plain_console
 from certvet.exitcodes import EXIT_FAILED, EXIT_USAGE
 
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands

@@ -8,24 +8,27 @@ is no schedule of test results, reads the PDF with the draft and scores the draf
 read gave. The caller (certvet.drafting) decides, by the thresholds below, whether the
 certificate is read with it, and whether the result can be trusted.
 
-The confidence of a draft (0…1) is the product of four shares, each measured on the file the
+The confidence of a draft (0…1) is the product of five shares, each measured on the file the
 draft was made from:
 
 * header — the mean confidence of the columns the draft matched to fields (extractor.draft:
   how well each printed heading matched a trade term, times how well the values beneath fit
   the field);
+* columns placed — the share of the table's columns holding values that the draft matched to
+  a field (a column left unread is a value no check sees);
 * parsed — the share of the circuit cells read with the draft that parsed as their field's
   kind of value;
 * headings found — the share of the draft's columns whose heading the assembler found again
   on every schedule page it read;
-* rows — the rows read with the draft, as a share of the rows numbered like circuits that the
-  drafter saw (at most 1).
+* rows — the rows read with the draft, as a share of the lines numbered like circuits on the
+  schedule pages (or of the rows the drafter saw, when more; at most 1), times the share of
+  rows whose circuit number is not repeated on their board (boards read as one repeat them).
 
-Thresholds (chosen on the fixture forms, common practice, no source): correct drafts of the
-fixture forms score 0.79–0.91; a draft that matched a column wrongly, or reads rows it should
-not, loses one share or more. `READ_THRESHOLD` 0.60 — below it the file is refused;
-`TRUSTED_THRESHOLD` 0.85 — below it the certificate is read, but its verdict can never be
-"no concerns found".
+Thresholds (chosen on the fixture forms, common practice, no source): drafts that read every
+column and row of a fixture form score 0.79–0.91; drafts that leave columns unread, miss a
+board or read two boards as one score 0.50–0.75. `READ_THRESHOLD` 0.60 — below it the file is
+refused; `TRUSTED_THRESHOLD` 0.85 — below it the certificate is read, but its verdict can never
+be "no concerns found".
 """
 
 from __future__ import annotations
@@ -35,7 +38,9 @@ import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 
-from extractor.draft import DraftError, DraftResult, draft_layout
+from extractor.assemble import group_lines
+from extractor.draft import DraftError, DraftResult, draft_layout, read_pages
+from extractor.engines.base import PageContent
 from extractor.errors import InputError
 from extractor.layout import Layout, LayoutError, parse_layout
 from extractor.records import Certificate, ValueKind
@@ -63,18 +68,20 @@ class DraftQuality:
     """How far a draft can be trusted, measured on the file it was drafted from."""
 
     header: float
+    placed: float
     parsed: float
     headings_found: float
     rows: float
 
     @property
     def confidence(self) -> float:
-        return round(self.header * self.parsed * self.headings_found * self.rows, 2)
+        return round(self.header * self.placed * self.parsed * self.headings_found * self.rows,
+                     2)
 
     def describe(self) -> str:
-        return (f"confidence {self.confidence:.2f} (headings {self.header:.2f}, cells parsed "
-                f"{self.parsed:.2f}, headings found on every page {self.headings_found:.2f}, "
-                f"rows {self.rows:.2f})")
+        return (f"confidence {self.confidence:.2f} (headings {self.header:.2f}, columns placed "
+                f"{self.placed:.2f}, cells parsed {self.parsed:.2f}, headings found on every "
+                f"page {self.headings_found:.2f}, rows {self.rows:.2f})")
 
 
 @dataclass(frozen=True)
@@ -90,9 +97,12 @@ class DraftedForm:
     distinctive: bool
 
 
-def _quality(draft: DraftResult, cert: Certificate) -> DraftQuality:
+def _quality(draft: DraftResult, cert: Certificate, layout: Layout,
+             numbered: int) -> DraftQuality:
     matched = [c for c in draft.columns if c.fields]
     header = sum(c.confidence for c in matched) / len(matched) if matched else 0.0
+    with_values = [c for c in draft.columns if any(v.strip() for v in c.samples)]
+    placed = (sum(1 for c in with_values if c.fields) / len(with_values)) if with_values else 0.0
     cells = [cell for _, c in cert.circuits() for cell in c.cells.values()
              if cell.value.kind is not ValueKind.EMPTY]
     bad = sum(1 for cell in cells if cell.value.kind is ValueKind.UNREADABLE)
@@ -101,8 +111,25 @@ def _quality(draft: DraftResult, cert: Certificate) -> DraftQuality:
     lost = {p.field for p in cert.problems
             if p.field in fields and p.message.startswith("column header for")}
     found = 1 - len(lost) / len(fields) if fields else 0.0
-    rows = min(1.0, len(cert.circuits()) / draft.rows_seen) if draft.rows_seen else 0.0
-    return DraftQuality(header, parsed, found, rows)
+    read = cert.circuits()
+    seen = max(draft.rows_seen, numbered)
+    unique = len({(b.ref, c.ref) for b, c in read})
+    rows = min(1.0, len(read) / seen) * (unique / len(read)) if seen and read else 0.0
+    return DraftQuality(header, placed, parsed, found, rows)
+
+
+def _numbered_lines(pages: list[PageContent], layout: Layout) -> int:
+    """Lines on the schedule pages that start with a circuit number, as the layout's row key
+    pattern reads one: the rows a complete read should hold (some may be notes)."""
+    sched = layout.schedule
+    n = 0
+    for page in pages:
+        if not sched.page_selected(page.number, len(pages)):
+            continue
+        for ln in group_lines(page.words, sched.line_tolerance):
+            first = ln.text.split(maxsplit=1)[0] if ln.text.strip() else ""
+            n += bool(first) and sched.row_key_pattern.fullmatch(first) is not None
+    return n
 
 
 def _refuse_non_schedule(src: str, draft: DraftResult) -> None:
@@ -141,7 +168,8 @@ def draft_and_read(
     except (LayoutError, tomllib.TOMLDecodeError) as exc:  # a drafter bug, said plainly
         raise DraftError(src, f"the drafted layout is not valid ({exc})") from None
     cert = extract(src, layout, engine=engine, password=password)
-    form = DraftedForm(layout, draft.toml, src, _quality(draft, cert),
+    numbered = _numbered_lines(read_pages(src, engine, password), layout)
+    form = DraftedForm(layout, draft.toml, src, _quality(draft, cert, layout, numbered),
                        _identifies_form(src, layout, engine, password))
     return form, cert
 

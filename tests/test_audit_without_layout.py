@@ -37,17 +37,21 @@ runner = CliRunner()
 
 # One certificate of each fixture form, and the cell accuracy it is read with when no layout is
 # given (lower bounds, measured: scripts/layout_accuracy.py --no-layout).
-SAMPLE_BOUNDS = {
+# (The stacked-canvas draft reads its first board's rows but names no board and misses the
+# second, so no cell matches the truth's boards: only its rows read are pinned.)
+SAMPLE_BOUNDS: dict[str, float | None] = {
     "fixtures/demo/grid-clean-01.pdf": 1.0,
     "fixtures/demo/plain-clean-04.pdf": 0.96,
     "fixtures/forms_extra/ledger-sample.pdf": 1.0,
     "fixtures/forms_extra/boxed-sample.pdf": 1.0,
+    "fixtures/forms_new/twolevel-html-01.pdf": 0.84,
+    "fixtures/forms_new/rotated-sheet-01.pdf": 0.78,
+    "fixtures/forms_new/stacked-canvas-01.pdf": None,
 }
-NEW_SAMPLES = sorted(str(p.relative_to(ROOT)) for p in NEW.glob("*.pdf")
-                     if p.with_name(p.stem + ".truth.json").exists())[:1] if NEW.exists() else []
+assert set(SAMPLE_BOUNDS) == set(acc.SAMPLES)  # one certificate of every fixture form
 
 
-@pytest.mark.parametrize("pdf", [*SAMPLE_BOUNDS, *NEW_SAMPLES], ids=lambda p: Path(p).stem)
+@pytest.mark.parametrize("pdf", sorted(SAMPLE_BOUNDS), ids=lambda p: Path(p).stem)
 def test_a_certificate_of_each_form_is_read_with_no_layout_at_all(pdf: str,
                                                                   tmp_path: Path) -> None:
     res = audit_file(ROOT / pdf, layouts=[], out_dir=tmp_path)
@@ -58,7 +62,13 @@ def test_a_certificate_of_each_form_is_read_with_no_layout_at_all(pdf: str,
     assert saved.parent == tmp_path / "drafted-layouts"
     assert load_layout(saved).name == res.layout  # saved for review and reuse, loadable
     score = acc.cell_accuracy(res.certificate, acc.load_truth(ROOT / pdf))
-    assert score.share >= SAMPLE_BOUNDS.get(pdf, 0.9), score.wrong
+    bound = SAMPLE_BOUNDS[pdf]
+    if bound is not None:
+        assert score.share >= bound, score.wrong
+    else:
+        assert len(res.certificate.circuits()) >= 9
+        assert not note.trusted  # a board missed: never "no concerns found"
+        assert res.verdict.key is not VerdictKey.NO_CONCERNS
     report = json.loads((tmp_path / f"{Path(pdf).stem}.json").read_text(encoding="utf-8"))
     assert report["certificate"]["drafted_layout"] == note.to_dict()
     html = (tmp_path / f"{Path(pdf).stem}.html").read_text(encoding="utf-8")
@@ -71,13 +81,18 @@ def no_layout_figures() -> dict[str, object]:
 
 
 # Per form: (certificates read at least, row recall at least, cell accuracy at least), from
-# scripts/layout_accuracy.py --no-layout (derived). The ledger's repeated-header pitfall is
-# refused (its draft reads 40 % of the rows: confidence 0.32).
-FORM_BOUNDS = {
+# scripts/layout_accuracy.py --no-layout (derived). Refused: the ledger's repeated-header
+# pitfall (its draft reads 40 % of the rows: confidence 0.32), two rotated-sheet and one
+# stacked-canvas certificate (two boards read as one, or a board missed: 0.50-0.59). The
+# stacked-canvas drafts name no board, so rows and cells do not match the truth's boards.
+FORM_BOUNDS: dict[str, tuple[int, float | None, float | None]] = {
     "boxed": (6, 1.0, 0.99),
     "grid-landscape": (4, 1.0, 0.99),
     "ledger": (4, 0.70, 0.70),
     "plain-columns": (3, 1.0, 0.90),
+    "twolevel-html": (4, 1.0, 0.84),
+    "rotated-sheet": (2, 0.35, 0.28),
+    "stacked-canvas": (3, None, None),
 }
 
 
@@ -86,9 +101,18 @@ def test_no_layout_figures_per_form(form: str, no_layout_figures: dict[str, obje
     r = no_layout_figures[form]
     read, rows, cells = FORM_BOUNDS[form]
     assert r.read >= read, r.refused  # type: ignore[attr-defined]
-    assert r.row_recall >= rows  # type: ignore[attr-defined]
-    assert r.cells.share >= cells, r.cells.wrong  # type: ignore[attr-defined]
+    if rows is not None:
+        assert r.cells.row_recall >= rows  # type: ignore[attr-defined]
+    if cells is not None:
+        assert r.cells.share >= cells, r.cells.wrong  # type: ignore[attr-defined]
     assert r.read_by_other_form == 0  # type: ignore[attr-defined]
+    # every refusal is one line naming the file and the command that drafts a layout
+    for reason in r.refused:  # type: ignore[attr-defined]
+        assert "\n" not in reason and "certvet draft-layout" in reason
+
+
+def test_every_fixture_form_is_measured(no_layout_figures: dict[str, object]) -> None:
+    assert set(no_layout_figures) == set(FORM_BOUNDS)
 
 
 def test_files_of_one_form_share_the_layout_drafted_earlier_in_the_run(tmp_path: Path) -> None:
@@ -204,9 +228,10 @@ def _letter_pdf(path: Path) -> Path:
     return path
 
 
-@pytest.mark.parametrize("make", [_statement_pdf, _letter_pdf], ids=["statement", "letter"])
+@pytest.mark.parametrize("make", [_statement_pdf, _letter_pdf, *acc.NOT_CERTIFICATES],
+                         ids=lambda m: Path(m).stem if isinstance(m, str) else m.__name__)
 def test_a_document_that_is_no_certificate_is_refused(make: object, tmp_path: Path) -> None:
-    pdf = make(tmp_path / "doc.pdf")  # type: ignore[operator]
+    pdf = ROOT / make if isinstance(make, str) else make(tmp_path / "doc.pdf")  # type: ignore
     with pytest.raises(InputError) as err:
         audit_file(pdf, layouts=[], out_dir=tmp_path / "o")
     msg = str(err.value)
