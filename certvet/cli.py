@@ -10,14 +10,23 @@ import os
 import sys
 from enum import StrEnum
 from pathlib import Path
-from typing import TYPE_CHECKING, Annotated, Optional
+from typing import TYPE_CHECKING, Annotated, Any, Optional
 
 import typer
 
 from certvet import cli_drafting as draft_opts
 from certvet.console import err as _err
+from certvet.console import make_out_dir as _make_out_dir
 from certvet.console import one_line
-from certvet.exitcodes import EXIT_CLEAN, EXIT_FAILED, EXIT_FINDINGS, EXIT_INTERNAL, EXIT_USAGE
+from certvet.exitcodes import (
+    DEFAULT_FAIL_ON,
+    EXIT_CLEAN,
+    EXIT_FAILED,
+    EXIT_FINDINGS,
+    EXIT_INTERNAL,
+    EXIT_USAGE,
+    parse_fail_on,
+)
 
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from certvet.api import AuditResult
@@ -44,17 +53,6 @@ class EngineChoice(StrEnum):
     lattice = "lattice"
 
 
-def _make_out_dir(out: Path) -> None:
-    """Create the reports folder up front: one line and exit 3 when it cannot be made."""
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        why = "a file of that name is in the way" if isinstance(exc, FileExistsError) else (
-            exc.strerror or str(exc))
-        _err(f"{out}: cannot create the reports folder: {why}")
-        raise typer.Exit(EXIT_FAILED) from None
-
-
 def _load_inputs(
     layout_paths: list[Path], profile_path: Path | None
 ) -> tuple[list[Layout], Profile]:
@@ -78,9 +76,11 @@ def _run_batch(
     engine: str | None,
     password: str | None,
     quiet: bool,
+    fail_on: frozenset[Any],
     drafting: DraftOptions | None = None,
 ) -> int:
     from certvet.api import audit_many
+    from reports.verdict import NOT_AUDITED
 
     show_bar = len(pdfs) > 3 and not quiet and sys.stderr.isatty()
     lines: list[str] = []
@@ -89,7 +89,7 @@ def _run_batch(
         if error and quiet:
             _err(error)  # --quiet prints nothing but errors
         if error:
-            lines.append(f"{'FAILED':<22} {one_line(error)}")
+            lines.append(f"{NOT_AUDITED.upper():<22} {one_line(error)}")
         else:
             assert result is not None  # audit_many gives a result or an error
             v = result.verdict
@@ -137,14 +137,15 @@ def _run_batch(
             on_done=done,
             drafting=drafting,
         )
-    breach = any(r.has_breach for r in summary.audited)
+    breach = any(f.severity in fail_on and not f.preview
+                 for r in summary.audited for f in r.results.findings)
     if not quiet:
         typer.echo(
             f"\n{summary.total} file(s): {len(summary.audited)} audited, "
-            f"{len(summary.failed)} failed; reports in {out_dir}"
+            f"{len(summary.failed)} {NOT_AUDITED}; reports in {out_dir}"
         )
         for f in summary.failed:
-            typer.echo(f"  failed: {one_line(f.reason)}")
+            typer.echo(f"  {NOT_AUDITED}: {one_line(f.reason)}")
         typer.echo(
             "A desk check cannot show an installation is safe; "
             "defer to BS 7671 and licensed practice."
@@ -186,6 +187,11 @@ def audit(
         typer.Option("--password", help="Password for encrypted PDFs."),
     ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing but errors.")] = False,
+    fail_on: Annotated[
+        str, typer.Option("--fail-on", metavar="SEVERITIES",
+                          help="Severities that make the exit status 1, comma-separated "
+                               "(note, query, breach, impossible).")
+    ] = DEFAULT_FAIL_ON,
     draft_unknown: draft_opts.DraftUnknown = True,
     min_draft_confidence: draft_opts.MinConfidence = draft_opts.READ_AT,
     trusted_draft_confidence: draft_opts.TrustedConfidence = draft_opts.TRUSTED_AT,
@@ -193,6 +199,11 @@ def audit(
     """Audit certificates: extract the schedule, run every check, write HTML/JSON/CSV reports."""
     from certvet.api import expand_inputs
 
+    try:
+        severities = parse_fail_on(fail_on)
+    except ValueError as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_USAGE) from None
     layouts, prof = _load_inputs(layout, profile)
     files = expand_inputs(pdfs)
     if not files:
@@ -202,7 +213,7 @@ def audit(
     options = draft_opts.draft_options(draft_unknown, min_draft_confidence,
                                        trusted_draft_confidence)
     code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet,
-                      options)
+                      severities, options)
     raise typer.Exit(code)
 
 
@@ -225,7 +236,7 @@ def demo(
         batch(
             [DEMO_DIR], layout=[DEMO_LAYOUTS], store=out / "corpus.sqlite", out=out,
             workers=None, timeout=120.0, memory_mb=2048, retry_failed=False, scheduler=None,
-            profile=None, password=None, quiet=False,
+            profile=None, password=None, quiet=False, fail_on=DEFAULT_FAIL_ON,
         )
     except typer.Exit as done:
         code = done.exit_code

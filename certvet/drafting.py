@@ -23,7 +23,6 @@ from does not depend on the order in which workers finish.
 
 from __future__ import annotations
 
-import json
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field, replace
 from pathlib import Path
@@ -156,17 +155,6 @@ class DraftedForms:
             raise InputError(sample, f"cannot save the layout drafted from it to {target}: "
                                      f"{exc.strerror or exc}") from None
         return str(target)
-
-
-def note_from_report(json_report: Path) -> DraftedLayoutNote | None:
-    """The drafted-layout note of a certificate's earlier JSON report (None when absent), for
-    re-writing reports from the store, which does not keep it."""
-    try:
-        data = json.loads(json_report.read_text(encoding="utf-8"))
-        raw = data["certificate"].get("drafted_layout")
-        return DraftedLayoutNote.from_dict(raw) if isinstance(raw, dict) else None
-    except (OSError, ValueError, KeyError, TypeError, AttributeError):
-        return None
 
 
 def audit_unknown_forms(

@@ -271,3 +271,17 @@ def test_cli_batch_with_no_layout(tmp_path: Path) -> None:
     data = json.loads(doc.read_text(encoding="utf-8"))
     assert data["certificate"]["drafted_layout"]["trusted"] is False
     assert data["verdict"]["key"] != "no_concerns"
+
+
+def test_the_store_keeps_the_drafted_layout_note(tmp_path: Path) -> None:
+    # a verdict decided again from the store (cross-certificate phase) must still see it
+    from certvet.batch import decide_again
+    from corpus.store import Corpus
+
+    res = audit_file(DEMO / "grid-clean-01.pdf", layouts=[],
+                     drafting=DraftOptions(trusted_threshold=0.95))
+    assert res.verdict.key is VerdictKey.INCOMPLETE
+    with Corpus(tmp_path / "c.sqlite") as corpus:
+        cid = corpus.add(res.certificate, res.results, verdict=res.verdict.key.value)
+        assert corpus.certificate(cid).drafted == res.certificate.drafted
+        assert decide_again(corpus, [cid], {})[cid].key is VerdictKey.INCOMPLETE
