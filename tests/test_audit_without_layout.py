@@ -253,6 +253,10 @@ def test_cli_audit_with_no_layout_says_so(tmp_path: Path) -> None:
     assert "read with a layout drafted from this file, confidence 0.91; check it before " \
            "relying on the result" in res.output
     assert (tmp_path / "drafted-layouts" / "drafted-boxed-sample.toml").exists()
+    doc = runner.invoke(app, ["audit", str(pdf), "-o", str(tmp_path / "j"), "--json"])
+    entry = json.loads(doc.stdout)["files"][0]
+    assert entry["drafted_layout"]["confidence"] == 0.91
+    assert entry["drafted_layout"]["message"].startswith("read with a layout drafted from this")
     off = runner.invoke(app, ["audit", str(pdf), "-o", str(tmp_path / "off"),
                               "--no-draft-unknown-forms"])
     assert off.exit_code == 3
