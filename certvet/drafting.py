@@ -115,7 +115,7 @@ class DraftedForms:
               ) -> tuple[Layout, Certificate]:
         """Draft a layout from the file and read it; InputError (one line naming the file
         and what to do) when the draft cannot be used."""
-        from extractor.api import DEFAULT_ENGINE
+        from extractor.engines.names import DEFAULT_ENGINE
         from extractor.draft_reading import draft_and_read, safe_name
 
         opts = self.options
