@@ -11,6 +11,7 @@ from collections.abc import Iterator, Sequence
 from typing import TYPE_CHECKING
 
 from extractor.assemble import assemble, group_lines
+from extractor.engines.names import DEFAULT_ENGINE, ENGINE_NAMES
 from extractor.errors import InputError, NoLayoutMatches
 
 if TYPE_CHECKING:
@@ -18,8 +19,6 @@ if TYPE_CHECKING:
     from extractor.layout import Layout
     from extractor.records import Certificate
 
-ENGINE_NAMES = ("pdfium", "pdfplumber", "lattice")
-DEFAULT_ENGINE = "pdfium"
 UNREADABLE_SHARE = 0.5  # refuse a document when more than this share of its chars is unreadable
 
 
@@ -99,11 +98,14 @@ def _text_of_page(page: PageContent) -> str:
 def _first_recognising(texts: Sequence[str], layouts: Sequence[Layout]) -> Layout | None:
     """The first layout whose `recognise.require` patterns all match the text of its first
     `recognise.pages` pages (texts: one string per page, from the first page on)."""
-    for lay in layouts:
-        text = "\n".join(texts[: lay.recognise.pages])
-        if all(p.search(text) for p in lay.recognise.require):
-            return lay
-    return None
+    return next((lay for lay in layouts if recognises(texts, lay)), None)
+
+
+def recognises(texts: Sequence[str], layout: Layout) -> bool:
+    """Whether the layout's `recognise.require` patterns all match the text of its first
+    `recognise.pages` pages (texts: one string per page, from the first page on)."""
+    text = "\n".join(texts[: layout.recognise.pages])
+    return all(p.search(text) for p in layout.recognise.require)
 
 
 def file_sha256(path: str) -> str:
