@@ -12,6 +12,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
+from datetime import date
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -100,9 +101,11 @@ def audit_file(
     password: str | None = None,
     formats: Iterable[str] = ("html", "json", "csv"),
     stem: str | None = None,
+    audit_date: date | None = None,
 ) -> AuditResult:
     """Extract, check and (when out_dir is given) write the reports for one PDF, named
-    `<stem>.*` (default: the PDF's name).
+    `<stem>.*` (default: the PDF's name). `audit_date`: the date the audit speaks for
+    (default: the profile's, else today).
 
     Raises InputError (one-line message naming the file) for input that cannot be audited.
     """
@@ -123,7 +126,7 @@ def audit_file(
             names = ", ".join(lay.name for lay in layouts)
             raise NoLayoutMatches(str(path), f"no layout recognises this form (tried: {names})")
         chosen, cert = found, got
-    results = run_checks(cert, profile or DEFAULT_PROFILE)
+    results = run_checks(cert, profile or DEFAULT_PROFILE, audit_date=audit_date)
     result = AuditResult(path, cert, results, chosen.name)
     if out_dir is not None:
         result.outputs = write_reports(result, out_dir, formats, profile or DEFAULT_PROFILE,

@@ -57,18 +57,31 @@ def _make_out_dir(out: Path) -> None:
 
 
 def _load_inputs(
-    layout_paths: list[Path], profile_path: Path | None
+    layout_paths: list[Path], profile_path: Path | None, audit_date: str | None = None
 ) -> tuple[list[Layout], Profile]:
-    from checks.profile import DEFAULT_PROFILE, ProfileError, load_profile
+    import dataclasses
+
+    from checks.profile import DEFAULT_PROFILE, ProfileError, load_profile, parse_audit_date
     from extractor.layout import LayoutError, load_layouts
 
     try:
         layouts = load_layouts(layout_paths) if layout_paths else []
         profile = load_profile(profile_path) if profile_path else DEFAULT_PROFILE
+        if audit_date is not None:
+            profile = dataclasses.replace(
+                profile, audit_date=parse_audit_date(audit_date, "--audit-date"))
     except (LayoutError, ProfileError) as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_USAGE) from None
     return layouts, profile
+
+
+AuditDateOption = Annotated[
+    Optional[str],  # noqa: UP045
+    typer.Option("--audit-date", metavar="YYYY-MM-DD",
+                 help="The date the audit speaks for (certificate age, future dates); "
+                 "default: today."),
+]
 
 
 def _run_batch(
@@ -177,6 +190,7 @@ def audit(
         typer.Option("--password", help="Password for encrypted PDFs."),
     ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing but errors.")] = False,
+    audit_date: AuditDateOption = None,
 ) -> None:
     """Audit certificates: extract the schedule, run every check, write HTML/JSON/CSV reports."""
     from certvet.api import expand_inputs
@@ -184,7 +198,7 @@ def audit(
     if not layout:
         _err("give at least one --layout (a layout file or a folder of them)")
         raise typer.Exit(EXIT_USAGE)
-    layouts, prof = _load_inputs(layout, profile)
+    layouts, prof = _load_inputs(layout, profile, audit_date)
     files = expand_inputs(pdfs)
     if not files:
         _err(f"{', '.join(str(p) for p in pdfs)}: no PDF files found")

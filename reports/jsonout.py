@@ -16,6 +16,8 @@ Format history:
   or null) and ``readings`` (board, circuit, field, here, there, relation — ``equal``, ``near``
   for ±1 in the last printed digit, or ``different`` — board_there, circuit_there). Version 1
   documents are still read by ``certificate_from_json``.
+* 3 — each ``check_runs`` entry adds ``reason``: why the check did not apply, when it says
+  (null otherwise). Versions 1 and 2 are still read.
 
 ``certificate_from_json`` rebuilds the ``Certificate`` from a document, so checks can be
 re-run on a saved report without the PDF.
@@ -45,8 +47,8 @@ from extractor.records import (
 from reports.model import RelatedFinding
 from reports.verdict import decide
 
-FORMAT_VERSION = 2
-READABLE_VERSIONS = (1, 2)
+FORMAT_VERSION = 3
+READABLE_VERSIONS = (1, 2, 3)
 
 
 def _box(box: Box | None) -> dict[str, Any] | None:
@@ -116,6 +118,7 @@ def report_dict(
                 "applied_to": r.applied_to,
                 "findings": r.findings,
                 "options": r.options,
+                "reason": r.reason,
             }
             for r in results.runs
         ],

@@ -39,7 +39,8 @@ SEVERITIES_WORST_FIRST: tuple[Severity, ...] = tuple(sorted(Severity, reverse=Tr
 # Certificate-level details shown in the header, in order.
 HEADER_FIELDS: tuple[str, ...] = (
     "cert_number", "report_type", "address", "client", "contractor", "inspector",
-    "inspection_date", "next_inspection", "instrument_serial", "earthing", "ze", "ipf",
+    "inspection_date", "issue_date", "next_inspection", "bs7671_edition", "premises_type",
+    "installation_age", "instrument_serial", "earthing", "ze", "ipf",
     "overall_outcome", "observation_codes", "limitations",
 )
 
@@ -172,6 +173,7 @@ class CheckRunView:
     severity: str  # severity label in effect
     options: list[OptionView]
     overridden: bool  # the profile changed something for this check
+    reason: str = ""  # why it did not apply, when the check says
 
 
 @dataclass(frozen=True)
@@ -404,6 +406,7 @@ def _runs(results: CheckResults, profile: Profile) -> list[CheckRunView]:
                 severity=sev.label if sev is not None else "",
                 options=[OptionView(k, _option_text(v)) for k, v in run.options.items()],
                 overridden=run.check_id in profile.checks,
+                reason=run.reason or "",
             )
         )
     return views

@@ -71,6 +71,7 @@ class Case:
     options: dict[str, Any] = field(default_factory=dict)
     severity: str | None = None  # expected severity of the findings, when given
     problems: list[dict[str, Any]] = field(default_factory=list)  # extraction problems
+    audit_date: str | None = None  # YYYY-MM-DD: the date the audit speaks for (date checks)
 
     def build(self) -> Certificate:
         return make_certificate(self.circuits, self.board, self.certificate, self.boards,
@@ -83,7 +84,8 @@ def load_cases() -> list[Case]:
         data = tomllib.loads(path.read_text(encoding="utf-8"))
         for raw in data.get("case", []):
             unknown = set(raw) - {"name", "expect", "source", "circuits", "board", "boards",
-                                  "certificate", "options", "severity", "problems"}
+                                  "certificate", "options", "severity", "problems",
+                                  "audit_date"}
             if unknown:
                 raise ValueError(f"{path}: case {raw.get('name')!r}: unknown keys {unknown}")
             cases.append(Case(check_id=path.stem, **raw))

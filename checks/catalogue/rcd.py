@@ -5,8 +5,10 @@ from __future__ import annotations
 import re
 from collections.abc import Iterable
 from dataclasses import dataclass
+from datetime import date
 
 from checks.base import CircuitCheck, fmt, option
+from checks.certificate_facts import Applies, observation_note, requirement_applies
 from checks.devices import DeviceFamily, is_ring, parse_device
 from checks.model import Finding, Severity
 from checks.registry import register
@@ -66,9 +68,9 @@ class RcdMissingForSockets(CircuitCheck):
     Known false alarms:
     An RCD upstream (an RCD main switch or a split-load RCD) recorded on its own row or on
     the board rather than on each circuit row; a documented risk assessment for sockets in
-    a non-domestic installation (allowed by the exception to Reg 411.3.3); installations
-    built to an earlier edition, where a periodic report records this as an observation
-    rather than a failure.
+    a non-domestic installation (allowed by the exception to Reg 411.3.3). On an EICR of an
+    installation built before the 2008 edition (its estimated age says so) the finding is a
+    query: an observation to raise, not a failed report.
 
     Failing example:
     "Kitchen sockets", BS EN 60898 B32, RCD IΔn "N/A".
@@ -79,6 +81,8 @@ class RcdMissingForSockets(CircuitCheck):
     Options:
     max_rating_a: socket circuits rated up to this need RCD protection (A).
     max_idn_ma: largest IΔn that counts as additional protection (mA).
+    since: on an EICR of an installation built before this date (from its estimated age),
+    the finding is an observation to raise (query), not a breach.
 
     Reference:
     BS 7671:2018+A2:2022 Reg 411.3.3 (additional protection by RCD for socket-outlets
@@ -103,6 +107,12 @@ class RcdMissingForSockets(CircuitCheck):
             30.0,
             "BS 7671:2018+A2:2022 Reg 415.1.1: IΔn not exceeding 30 mA",
             "largest RCD IΔn (mA) that counts as additional protection",
+        )
+        since: str = option(
+            "2008-07-01",
+            "from memory: BS 7671:2008 (RCDs for all sockets up to 32 A) in force 1 July 2008",
+            "an EICR of an installation built before this date (YYYY-MM-DD) raises an "
+            "observation (query), not a breach",
         )
 
     def check_circuit(
@@ -130,6 +140,11 @@ class RcdMissingForSockets(CircuitCheck):
                 f"time); sockets up to {fmt(self.options.max_rating_a, 'A', 0)} need a "
                 f"{fmt(limit, 'mA', 0)} RCD."
             )
+        severity = self.effective_severity
+        since = date.fromisoformat(self.options.since)
+        if requirement_applies(cert, since) is Applies.OBSERVATION:  # older EICR
+            message = f"{message[:-1]}; {observation_note(since)}."
+            severity = min(severity, Severity.QUERY)
         return [
             self.make(
                 cert,
@@ -138,6 +153,7 @@ class RcdMissingForSockets(CircuitCheck):
                 circuit=circuit,
                 field="rcd_idn",
                 expected=f"≤ {fmt(limit, 'mA', 0)}",
+                severity=severity,
             )
         ]
 
