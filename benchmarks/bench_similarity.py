@@ -4,7 +4,7 @@ Run by hand (not part of the test suite):
 
     .venv/bin/python benchmarks/bench_similarity.py --sizes 1000,10000,100000
 
-Fills one store with synthetic certificates (certvet/corpus/synthetic.py) up to each size in
+Fills one store with synthetic certificates (corpus/synthetic.py) up to each size in
 turn — the 1,000 are the first 1,000 of the 10,000 — and at each size prints:
 
 * lookup time per certificate, median and 95th percentile over `--queries` lookups: of stored
@@ -32,12 +32,12 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from certvet.corpus import Corpus  # noqa: E402
-from certvet.corpus.fingerprints import certificate_readings  # noqa: E402
-from certvet.corpus.similarity import build_signatures, find_similar  # noqa: E402
-from certvet.corpus.synthetic import CertificateStream  # noqa: E402
 from checks.profile import DEFAULT_PROFILE  # noqa: E402
 from checks.runner import CheckResults  # noqa: E402
+from corpus import Corpus  # noqa: E402
+from corpus.fingerprints import certificate_readings  # noqa: E402
+from corpus.similarity import build_signatures, find_similar  # noqa: E402
+from corpus.synthetic import CertificateStream  # noqa: E402
 
 COPY_KINDS = ("whole", "nudged", "board", "run")
 

@@ -21,7 +21,7 @@ How a run goes:
    already stored, and a re-run skips it (nothing is stored twice). A file whose reports
    could not be written (``ReportWriteError``: the output folder, not the PDF) is failed for
    this run but not stored, so the next run audits it again.
-5. After the files: the cross-certificate checks of certvet.corpus.crosscheck (copied
+5. After the files: the cross-certificate checks of corpus.crosscheck (copied
    schedules, repeats at an address, reused numbers, workload) for every certificate of this
    batch's inputs — audited now or earlier, so a resumed run reports what one uninterrupted
    run would — become findings of the batch (``cross-findings.csv`` / ``.json``). The HTML and
@@ -58,8 +58,8 @@ from extractor.layout import Layout
 
 if TYPE_CHECKING:
     from certvet.api import AuditResult
-    from certvet.corpus.crosscheck import CrossFinding
-    from certvet.corpus.store import Corpus
+    from corpus.crosscheck import CrossFinding
+    from corpus.store import Corpus
     from reports.portfolio import PortfolioData
 
 __all__ = ["BatchReport", "FileOutcome", "Status", "run_batch", "write_portfolio"]
@@ -150,7 +150,7 @@ class BatchReport:
 
     def portfolio_data(self) -> PortfolioData:
         """The portfolio view-model over this batch's certificates (read from the store)."""
-        from certvet.corpus.store import Corpus
+        from corpus.store import Corpus
 
         reports = {o.sha256: o.reports["html"] for o in self.outcomes
                    if o.sha256 and "html" in o.reports}
@@ -252,7 +252,7 @@ def run_batch(
     """Audit every input into the store; see the module docstring. Never raises for a bad
     file; raises CorpusError (one line) when the store itself cannot be used."""
     from certvet.api import expand_inputs
-    from certvet.corpus.store import Corpus
+    from corpus.store import Corpus
 
     prof = profile or DEFAULT_PROFILE
     out = Path(out_dir) if out_dir is not None else None
@@ -379,7 +379,7 @@ def _store_outcome(corpus: Corpus, oc: Outcome, sha: str) -> FileOutcome:
     A file whose reports could not be written (ReportWriteError: the output folder's fault,
     not the PDF's) is failed for this run but not stored, so the next run audits it again."""
     from certvet.api import ReportWriteError
-    from certvet.corpus.store import CorpusError
+    from corpus.store import CorpusError
 
     if oc.error is None and oc.result is not None:
         res: AuditResult = oc.result
@@ -405,7 +405,7 @@ def _store_outcome(corpus: Corpus, oc: Outcome, sha: str) -> FileOutcome:
 
 def cross_findings(corpus: Corpus, shas: set[str]) -> list[CrossFinding]:
     """Copies, repeats, reused numbers and workload for the certificates with these hashes."""
-    from certvet.corpus.crosscheck import check_certificate, workload
+    from corpus.crosscheck import check_certificate, workload
 
     ids = {}
     for sha in sorted(shas):
@@ -439,8 +439,8 @@ def related_findings(
     None); links are its file name, as the reports are siblings in one folder."""
     from urllib.parse import quote
 
-    from certvet.corpus.crosscheck import INSPECTOR_WORKLOAD, INSTRUMENT_WORKLOAD, NUMBER_REUSED
-    from certvet.corpus.store import CertificateRow
+    from corpus.crosscheck import INSPECTOR_WORKLOAD, INSTRUMENT_WORKLOAD, NUMBER_REUSED
+    from corpus.store import CertificateRow
     from reports.model import OtherCertificate, PairedValue, RelatedFinding
 
     rows: dict[int, CertificateRow] = {}
@@ -581,7 +581,7 @@ def write_cross_findings(found: Sequence[CrossFinding], out_dir: Path) -> tuple[
 def write_portfolio(store_or_results: Any, path: Path | str, *,
                     reports_dir: Path | None = None) -> Path:
     """Write the portfolio page for a BatchReport, a Corpus, or a store path."""
-    from certvet.corpus.store import Corpus
+    from corpus.store import Corpus
     from reports.portfolio import render_portfolio
 
     if isinstance(store_or_results, BatchReport):
@@ -608,11 +608,11 @@ def collect_portfolio(
     (every certificate when `shas` is None), their findings, the cross-certificate findings,
     readings for the charts, and a link to each certificate's own report when known
     (`reports` by hash, else `reports_dir/<stem>-<sha8>.html` when that file exists)."""
-    from certvet.corpus.crosscheck import CrossCheckOptions, party_stats
     from checks.devices import parse_device
     from checks.model import Severity
     from checks.runner import CheckResults
     from checks.tables import max_zs
+    from corpus.crosscheck import CrossCheckOptions, party_stats
     from extractor.records import ValueKind
     from reports.portfolio import CertInput, LinkInput, PartyInput, PortfolioData
     from reports.verdict import decide

@@ -67,9 +67,9 @@ def batch(
     """Audit a folder of certificates into the corpus: resumable, in parallel, never stopped by
     one bad file; then cross-certificate checks and a portfolio page."""
     from certvet.batch import FileOutcome, Status, run_batch
-    from certvet.corpus.store import CorpusError
     from certvet.workers import Limits
     from checks.profile import DEFAULT_PROFILE, ProfileError, load_profile
+    from corpus.store import CorpusError
     from extractor.layout import LayoutError, load_layouts
 
     if not layout:
@@ -174,7 +174,7 @@ def portfolio(
 ) -> None:
     """Write one self-contained HTML page over the whole corpus."""
     from certvet.batch import write_portfolio
-    from certvet.corpus.store import CorpusError
+    from corpus.store import CorpusError
 
     if not store.exists():
         _err(f"{store}: no such corpus store")
@@ -199,7 +199,7 @@ def export(
                    ] = Path("corpus-export"),
 ) -> None:
     """Export every table of the corpus as CSV or Parquet files."""
-    from certvet.corpus.store import Corpus, CorpusError
+    from corpus.store import Corpus, CorpusError
 
     if not store.exists():
         _err(f"{store}: no such corpus store")

@@ -501,7 +501,7 @@ def build_report(
 
 RELATION_LABELS: dict[str, str] = {"equal": "equal", "near": "±1 in the last digit",
                                    "different": "different"}
-# titles of the cross-certificate checks (certvet.corpus.crosscheck; not in the catalogue)
+# titles of the cross-certificate checks (corpus.crosscheck; not in the catalogue)
 CROSS_CHECK_TITLES: dict[str, str] = {
     "schedule-copied-from-other-address": "Readings match a certificate for another address",
     "schedule-repeats-earlier-at-address": "Readings repeat an earlier certificate here",

@@ -1,10 +1,11 @@
-"""The pipeline's layer rules hold: certvet → reports → checks → extractor, and neither checks
-nor reports import a PDF library (contracts in pyproject.toml, [tool.importlinter])."""
+"""The pipeline's layer rules hold: certvet → reports → corpus → checks → extractor, and neither
+checks, corpus nor reports import a PDF library (contracts: pyproject.toml, [tool.importlinter])."""
 
 from __future__ import annotations
 
 import subprocess
 import sys
+import tomllib
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -15,6 +16,27 @@ def test_import_contracts_kept() -> None:
     out = subprocess.run([str(exe)], cwd=ROOT, capture_output=True, text=True, timeout=300)
     assert out.returncode == 0, out.stdout + out.stderr
     assert "0 broken" in out.stdout
+
+
+LAYERS = ["certvet", "reports", "corpus", "checks", "extractor"]
+
+
+def _importlinter() -> dict:  # type: ignore[type-arg]
+    with (ROOT / "pyproject.toml").open("rb") as fh:
+        return tomllib.load(fh)["tool"]["importlinter"]  # type: ignore[no-any-return]
+
+
+def test_layer_contract_names_every_stage_in_order() -> None:
+    """Every top-level package of the project is a layer, in pipeline order, so a new stage
+    cannot slip in without a contract."""
+    cfg = _importlinter()
+    layers = [c for c in cfg["contracts"] if c["type"] == "layers"]
+    assert [c["layers"] for c in layers] == [LAYERS]
+    assert sorted(cfg["root_packages"]) == sorted(LAYERS)
+    packages = sorted(p.parent.name for p in ROOT.glob("*/__init__.py"))
+    assert packages == sorted(LAYERS), f"top-level packages {packages} vs layers {LAYERS}"
+    pdf_free = next(c for c in cfg["contracts"] if c["type"] == "forbidden")
+    assert set(pdf_free["source_modules"]) == {"checks", "corpus", "reports"}
 
 
 def test_cli_start_up_imports_no_heavy_library() -> None:

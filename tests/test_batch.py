@@ -290,8 +290,8 @@ def test_dask_client_that_cannot_write_the_reports_fails_the_file(tmp_path: Path
 def test_store_outcome_does_not_store_a_report_write_failure(tmp_path: Path) -> None:
     from certvet.api import ReportWriteError
     from certvet.batch import _store_outcome
-    from certvet.corpus.store import Corpus
     from certvet.workers import Outcome
+    from corpus.store import Corpus
     from extractor.errors import InputError
 
     pdf = tmp_path / "c.pdf"

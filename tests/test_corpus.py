@@ -9,15 +9,15 @@ import pandas as pd
 import pytest
 from casekit import make_certificate
 
-import certvet.corpus.store as store_mod
-from certvet.corpus import Corpus, CorpusError
-from certvet.corpus.fingerprints import LshParams
-from certvet.corpus.migrations import LATEST
-from certvet.corpus.similarity import IndexParams
-from certvet.corpus.store import normalise_address, parse_date
-from certvet.corpus.synthetic import generate
+import corpus.store as store_mod
 from checks.profile import DEFAULT_PROFILE
 from checks.runner import CheckResults, run_checks
+from corpus import Corpus, CorpusError
+from corpus.fingerprints import LshParams
+from corpus.migrations import LATEST
+from corpus.similarity import IndexParams
+from corpus.store import normalise_address, parse_date
+from corpus.synthetic import generate
 from extractor.fields import BOARD_FIELDS, CERTIFICATE_FIELDS, CIRCUIT_FIELDS
 from extractor.records import Box, Cell
 
@@ -43,7 +43,7 @@ def _boxed_certificate():
         board={"ze": "0.35", "earthing": "TN-C-S"},
         certificate={"cert_number": "RT-0001", "address": "4 Pellow Street, Stennet, SZ3 1AB",
                      "inspection_date": "03/02/2024", "inspector": "Mei Quill",
-                     "contractor": "Keystone Wiring Co", "instrument_serial": "MFT-1"},
+                     "contractor": "Keystone Wiring Co (fictional)", "instrument_serial": "ZX-1"},
     )
     cert.sha256 = "a" * 64
     c = cert.boards[0].circuits[0]
@@ -213,8 +213,8 @@ def test_normalisation() -> None:
 
 
 def test_version_1_store_gains_the_profile_columns(tmp_path: Path) -> None:
-    from certvet.corpus.migrations import MIGRATIONS
-    from certvet.corpus.store import _statements
+    from corpus.migrations import MIGRATIONS
+    from corpus.store import _statements
 
     path = tmp_path / "v1.sqlite"
     conn = sqlite3.connect(path)

@@ -7,8 +7,10 @@ from pathlib import Path
 import pytest
 from casekit import make_certificate
 
-from certvet.corpus import Corpus
-from certvet.corpus.crosscheck import (
+from checks.profile import DEFAULT_PROFILE
+from checks.runner import CheckResults
+from corpus import Corpus
+from corpus.crosscheck import (
     COPIED,
     INSPECTOR_WORKLOAD,
     INSTRUMENT_WORKLOAD,
@@ -19,10 +21,8 @@ from certvet.corpus.crosscheck import (
     scan,
     workload,
 )
-from certvet.corpus.fingerprints import GRID, Reading, quantise, relation
-from certvet.corpus.synthetic import CertificateStream, generate
-from checks.profile import DEFAULT_PROFILE
-from checks.runner import CheckResults
+from corpus.fingerprints import GRID, Reading, quantise, relation
+from corpus.synthetic import CertificateStream, generate
 
 EMPTY = CheckResults(DEFAULT_PROFILE)
 
@@ -130,12 +130,13 @@ def test_planted_overload_day_found(planted) -> None:
 
 
 def _cert(number: str, address: str, date: str, readings: list[tuple[str, str, str]],
-          inspector: str = "Rosa Vane", serial: str = "MFT-5", ze: str = "0.30"):
+          inspector: str = "Rosa Vane", serial: str = "ZX-5", ze: str = "0.30"):
     circuits = [{"circuit_ref": str(i + 1), "r1_r2": a, "zs": b, "rcd_time": c}
                 for i, (a, b, c) in enumerate(readings)]
     cert = make_certificate(circuits, board={"ze": ze}, certificate={
         "cert_number": number, "address": address, "inspection_date": date,
-        "inspector": inspector, "instrument_serial": serial, "contractor": "Northspur Testing"})
+        "inspector": inspector, "instrument_serial": serial,
+        "contractor": "Northspur Testing (fictional)"})
     cert.sha256 = f"{number:0>64}"[-64:]
     cert.source = f"{number}.pdf"
     return cert
@@ -194,7 +195,7 @@ def test_workload_limit_follows_the_options(tmp_path: Path) -> None:
     with Corpus(tmp_path / "c.sqlite") as corpus:
         for i in range(11):  # 11 certificates × 6 tested circuits = 66 on one day
             corpus.add(_cert(f"W{i}", f"{i} Saltings Way, Lowmoor", "14/03/2024", READINGS,
-                             serial=f"MFT-{i}"), EMPTY)
+                             serial=f"ZX-{i}"), EMPTY)
         corpus.add(_cert("W99", "99 Saltings Way, Lowmoor", "15/03/2024", READINGS), EMPTY)
         default = workload(corpus)  # 10 min a circuit, 10 h a day: at most 60
         relaxed = workload(corpus, CrossCheckOptions(minutes_per_circuit=5))
@@ -218,7 +219,8 @@ def test_party_statistics(tmp_path: Path) -> None:
     assert stats["Priya Tallis"].share_zs_exactly_calculated < 0.5
     assert stats["Declan Rusk"].readings == 18
     assert sum(stats["Declan Rusk"].last_digit_counts) == 18
-    assert [(c.party, c.certificates) for c in contractors] == [("Northspur Testing", 2)]
+    assert [(c.party, c.certificates) for c in contractors] == [
+        ("Northspur Testing (fictional)", 2)]
 
 
 def test_nudged_value_shares_a_grid_cell() -> None:

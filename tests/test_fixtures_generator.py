@@ -40,7 +40,7 @@ NAMES = [
 
 def cross_checks() -> set[str]:
     """Checks that compare certificates with each other (found by a batch, not one audit)."""
-    from certvet.corpus import crosscheck as x
+    from corpus import crosscheck as x
 
     return {x.COPIED, x.REPEATED, x.NUMBER_REUSED, x.INSPECTOR_WORKLOAD, x.INSTRUMENT_WORKLOAD}
 

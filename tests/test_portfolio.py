@@ -16,7 +16,7 @@ from test_batch import (  # noqa: F401 (fixture)
 )
 
 from certvet.batch import write_portfolio
-from certvet.corpus.store import Corpus
+from corpus.store import Corpus
 from reports.portfolio import CertInput, LinkInput, PortfolioData, render_portfolio, risk
 
 

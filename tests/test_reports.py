@@ -101,7 +101,7 @@ def certificate() -> Certificate:
             "cert_number": "EIC-0042",
             "address": "4 Quarry Row",
             "client": SCRIPT,
-            "contractor": "Volt & Sons",
+            "contractor": "Volt & Sons (fictional)",
             "ze": "0.21",
         },
         boards=[{

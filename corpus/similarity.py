@@ -17,7 +17,8 @@ from collections import defaultdict
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 
-from certvet.corpus.fingerprints import (
+from checks.base import option
+from corpus.fingerprints import (
     BoardReadings,
     BoardSignature,
     CircuitReadings,
@@ -25,7 +26,6 @@ from certvet.corpus.fingerprints import (
     relation,
     signatures,
 )
-from checks.base import option
 
 
 @dataclass(frozen=True)

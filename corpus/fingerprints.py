@@ -14,7 +14,7 @@ Two kinds of signature are built per board:
   offset positions, so a value moved by one in the last digit keeps at least one of its two
   grid cells (see `quantise`). The MinHash is cut into LSH bands whose hashes are stored.
 
-Everything here is pure computation; `certvet.corpus.similarity` stores and queries it.
+Everything here is pure computation; `corpus.similarity` stores and queries it.
 """
 
 from __future__ import annotations

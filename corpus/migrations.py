@@ -133,7 +133,7 @@ CREATE TABLE check_runs (
     PRIMARY KEY (cert_id, check_id)
 ) WITHOUT ROWID;
 
--- similarity index (see certvet/corpus/fingerprints.py) -----------------------------------
+-- similarity index (see corpus/fingerprints.py) -----------------------------------
 CREATE TABLE board_readings (
     board_id   INTEGER PRIMARY KEY REFERENCES boards(id) ON DELETE CASCADE,
     cert_id    INTEGER NOT NULL,

@@ -37,13 +37,16 @@ _STREETS = (
     "Oakhythe Road", "Pellow Street", "Quarrymead Lane", "Rookery Fold", "Saltings Way",
     "Tanyard Close", "Underhill Row", "Vetch Lane", "Wharfside Mews", "Yarrowfield Road",
 )
-_TOWNS = (("Fernmouth", "FN"), ("Castlebridge", "CQ"), ("Lowmoor", "LW"), ("Harwick Vale", "HV"),
-          ("Stennet", "SZ"), ("Brackwater", "BQ"))
+# Invented data reads as invented (the convention of fixtures/generator/fictional.py): postcodes
+# in the QX area, which does not exist; firms marked "(fictional)"; serials with the neutral "ZX-".
+_TOWNS = (("Fernmouth", "QX"), ("Castlebridge", "QX"), ("Lowmoor", "QX"), ("Harwick Vale", "QX"),
+          ("Stennet", "QX"), ("Brackwater", "QX"))
 _FIRST = ("Alex", "Sam", "Jordan", "Priya", "Tomasz", "Ifeoma", "Gareth", "Mei", "Declan", "Rosa")
 _LAST = ("Harrow", "Quill", "Marden", "Okafor", "Lindqvist", "Pemberton", "Rusk", "Tallis",
          "Vane", "Whitlock", "Ashdown", "Brennick")
-_FIRMS = ("Brightline Electrical", "Volt & Vane Ltd", "Coppergate Services", "Northspur Testing",
-          "Keystone Wiring Co", "Meridian Electrical", "Fuse & Fettle Ltd", "Greenbank Contracting")
+_FIRMS = tuple(f"{name} (fictional)" for name in (
+    "Brightline Electrical", "Volt & Vane", "Coppergate Services", "Northspur Testing",
+    "Keystone Wiring Co", "Meridian Electrical", "Fuse & Fettle", "Greenbank Contracting"))
 
 # circuit type → (description, device type, rating, live csa, cpc csa, R1+R2 range Ω, rcd?)
 _TYPES: tuple[tuple[str, str, str, str, str, tuple[float, float], bool], ...] = (
@@ -118,7 +121,7 @@ class CertificateStream:
         i = r.randrange(pool)
         firm = _FIRMS[i % len(_FIRMS)]
         name = f"{_FIRST[i % len(_FIRST)]} {_LAST[(i // len(_FIRST)) % len(_LAST)]} #{i:04d}"
-        return {"inspector": name, "contractor": firm, "instrument_serial": f"MFT-{70000 + i}"}
+        return {"inspector": name, "contractor": firm, "instrument_serial": f"ZX-{70000 + i}"}
 
     def _date(self) -> str:
         day = self.rng.randrange(730)
@@ -246,8 +249,8 @@ class CertificateStream:
         return cert
 
     def _overload(self) -> list[Certificate]:
-        people = {"inspector": "Quentin Overbury #9999", "contractor": "Rapidcert Ltd",
-                  "instrument_serial": "MFT-99999"}
+        people = {"inspector": "Quentin Overbury #9999", "contractor": "Rapidcert (fictional)",
+                  "instrument_serial": "ZX-99999"}
         certs = [self._certificate(boards=1, date="14/03/2024", people=people) for _ in range(7)]
         for c in certs:
             self.truth.planted.append(Planted("overload", c.name, None, c.sha256))

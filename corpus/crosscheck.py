@@ -24,10 +24,10 @@ import re
 from collections import Counter, defaultdict
 from dataclasses import dataclass, field
 
-from certvet.corpus.similarity import Match, MatchOptions, compare_boards
-from certvet.corpus.store import CertificateRow, Corpus
 from checks.base import option
 from checks.model import Finding, Severity
+from corpus.similarity import Match, MatchOptions, compare_boards
+from corpus.store import CertificateRow, Corpus
 
 COPIED = "schedule-copied-from-other-address"
 REPEATED = "schedule-repeats-earlier-at-address"

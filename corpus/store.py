@@ -6,7 +6,7 @@
         for row in corpus.certificates():
             ...
 
-* Schema: ordered migrations (certvet/corpus/migrations.py), applied on open; a store newer
+* Schema: ordered migrations (corpus/migrations.py), applied on open; a store newer
   than this certvet is refused. Documented in docs/corpus.md.
 * WAL journal; every `add` is one transaction (inside `batch()`, one savepoint), so a failure
   part-way never leaves half a certificate behind.
@@ -16,6 +16,7 @@
 
 from __future__ import annotations
 
+import functools
 import json
 import re
 import sqlite3
@@ -23,13 +24,16 @@ from collections.abc import Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass
 from datetime import UTC, date, datetime
+from importlib import metadata
 from pathlib import Path
 from typing import Any
 
-from certvet import __version__
-from certvet.corpus.fingerprints import BoardReadings, certificate_readings
-from certvet.corpus.migrations import LATEST, MIGRATIONS
-from certvet.corpus.similarity import (
+from checks.model import CheckRun, Finding, Outcome, Severity
+from checks.profile import Profile
+from checks.runner import CheckResults
+from corpus.fingerprints import BoardReadings, certificate_readings
+from corpus.migrations import LATEST, MIGRATIONS
+from corpus.similarity import (
     IndexParams,
     Match,
     MatchOptions,
@@ -38,9 +42,6 @@ from certvet.corpus.similarity import (
     index_boards,
     stored_boards,
 )
-from checks.model import CheckRun, Finding, Outcome, Severity
-from checks.profile import Profile
-from checks.runner import CheckResults
 from extractor.fields import BOARD, CERTIFICATE, FIELDS, FieldSpec
 from extractor.records import (
     Board,
@@ -237,7 +238,7 @@ class Corpus:
         if current > LATEST:
             raise CorpusError(
                 f"{self.path}: corpus schema version {current} is newer than this certvet "
-                f"{__version__} understands ({LATEST}); upgrade certvet"
+                f"{_certvet_version()} understands ({LATEST}); upgrade certvet"
             )
         for version, description, sql in MIGRATIONS:
             if version <= current:
@@ -305,7 +306,8 @@ class Corpus:
             c.execute(
                 "INSERT INTO files (sha256, path, layout, engine, certvet_version, audited_at, "
                 "status, failure_reason) VALUES (?,?,?,?,?,?,?,NULL)",
-                (cert.sha256, cert.source, cert.layout, cert.engine, __version__, when, status),
+                (cert.sha256, cert.source, cert.layout, cert.engine, _certvet_version(), when,
+                 status),
             )
             cert_id = self._insert_certificate(cert, results, boards)
             board_ids = self._insert_boards(cert, cert_id)
@@ -323,7 +325,7 @@ class Corpus:
             c.execute(
                 "INSERT INTO files (sha256, path, layout, engine, certvet_version, audited_at, "
                 "status, failure_reason) VALUES (?,?,?,?,?,?,'failed',?)",
-                (sha256, path, layout, engine, __version__, _now(), reason or "unknown"),
+                (sha256, path, layout, engine, _certvet_version(), _now(), reason or "unknown"),
             )
 
     def _delete(self, sha256: str) -> None:
@@ -594,6 +596,18 @@ def _statements(sql: str) -> list[str]:
     """Split a migration into statements (no semicolons inside our string literals)."""
     lines = [ln.split("--", 1)[0] for ln in sql.splitlines()]
     return [s.strip() for s in "\n".join(lines).split(";") if s.strip()]
+
+
+@functools.cache
+def _certvet_version() -> str:
+    """The installed certvet's version (pyproject.toml), recorded with every stored file.
+
+    Read from the package metadata because the corpus stage sits below the application package
+    and may not import it."""
+    try:
+        return metadata.version("certvet")
+    except metadata.PackageNotFoundError:
+        return "unknown"
 
 
 def _now() -> str:
