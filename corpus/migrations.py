@@ -173,9 +173,24 @@ ALTER TABLE certificates ADD COLUMN profile_name TEXT;
 ALTER TABLE certificates ADD COLUMN profile TEXT  -- JSON: checks.profile.Profile.to_dict()
 """
 
+# the certificate as a whole: dates of issue, edition, premises, age, signatures, observation
+# counts, supply and bonding sizes (extractor/fields.py, added with the whole-certificate checks)
+CERTIFICATE_FIELDS_V3 = (
+    "issue_date", "bs7671_edition", "premises_type", "installation_age",
+    "instrument_calibration", "designer_signature", "constructor_signature",
+    "inspector_signature", "observations", "c1_count", "c2_count", "c3_count", "fi_count",
+    "supply_csa", "main_earthing_csa", "main_bonding_csa", "electrode_ra", "spd_fitted",
+)
+_V3 = "\n".join(
+    f"ALTER TABLE certificates ADD COLUMN {f}_{suffix} {kind};"
+    for f in CERTIFICATE_FIELDS_V3
+    for suffix, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
+) + "\nALTER TABLE check_runs ADD COLUMN reason TEXT;  -- why a check did not apply, or NULL"
+
 MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (1, "files, certificates, boards, circuits, findings, similarity index", _V1),
     (2, "certificates: rule profile used (profile_name, profile JSON)", _V2),
+    (3, "certificates: whole-certificate fields; check_runs.reason", _V3),
 )
 
 LATEST = MIGRATIONS[-1][0]

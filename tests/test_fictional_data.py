@@ -25,7 +25,8 @@ TRUTH_FILES = sorted(FIXTURES.rglob("*.truth.json"))
 SCANNED = sorted(
     p
     for pattern in ("fixtures/**/*.py", "fixtures/**/*.json", "fixtures/**/*.toml",
-                    "reports/templates/*.j2", "tests/*.py", "tests/gold/*", "certvet/**/*.py", "corpus/*.py",
+                    "reports/templates/*.j2", "tests/*.py", "tests/gold/*", "certvet/**/*.py",
+                    "corpus/*.py",
                     "README.md", "DEVELOPERS.md", "docs/*.md")
     for p in ROOT.glob(pattern)
     if p.name != "fictional.py" and p != Path(__file__)

@@ -19,8 +19,8 @@ from checks.registry import get_check, register
 from extractor.records import Board, Certificate, Circuit, ValueKind
 
 # The checks whose breach findings are schedule failures an inspector must code C1 or C2.
-FAILURE_CHECKS = ("zs-over-max-for-device", "ir-below-minimum", "rcd-time-limit",
-                  "rcd-time-5x-limit", "polarity-not-confirmed")
+FAILURE_CHECKS = ("zs-over-max-for-device,ir-below-minimum,rcd-time-limit,rcd-time-5x-limit,"
+                  "polarity-not-confirmed")
 _CONTINUITY = ("r1_r2", "r2_only", "r1", "r2", "rn")
 
 
@@ -105,9 +105,9 @@ class SatisfactoryDespiteFailedReadings(CertificateCheck):
 
     @dataclass(frozen=True)
     class Options:
-        checks: tuple[str, ...] = option(
+        checks: str = option(
             FAILURE_CHECKS, "common practice, no source: the readings that fail a requirement",
-            "ids of the checks whose breach findings are schedule failures")
+            "ids of the checks whose breach findings are schedule failures, comma-separated")
 
     def check_certificate(self, cert: Certificate) -> Iterable[Finding] | None:
         if not _eicr_only(self, cert):
@@ -116,7 +116,8 @@ class SatisfactoryDespiteFailedReadings(CertificateCheck):
             self.not_applicable("overall assessment is not satisfactory")
             return None
         found = []
-        for board, circuit, what in schedule_failures(cert, tuple(self.options.checks)):
+        for board, circuit, what in schedule_failures(cert, tuple(
+                i.strip() for i in self.options.checks.split(",") if i.strip())):
             named = _named(cert, board.ref, circuit.ref, ("C1", "C2"))
             note = ("an observation codes it C1/C2, so the assessment is wrong" if named
                     else "no C1/C2 observation names it")
