@@ -18,12 +18,15 @@ Per schedule page:
 
 from __future__ import annotations
 
+import functools
 import math
+import re
 from bisect import bisect_left, bisect_right
 from collections.abc import Iterable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from operator import attrgetter
 
+from extractor.accounting import account_boards, page_problem
 from extractor.engines.base import PageContent, Rule, Word
 from extractor.engines.words import is_unreadable
 from extractor.fields import BOARD, CERTIFICATE, FIELDS
@@ -598,6 +601,9 @@ class _Builder:
         self.cert = cert
         self.boards: dict[str, Board] = {}
         self.current: Board | None = None
+        # the column extents and ruling of the last table read: a continuation page that
+        # repeats no header reads with them
+        self.columns: tuple[dict[int, tuple[float, float]], bool, int] | None = None
 
     def board(self, ref: str, page: int) -> Board:
         b = self.boards.get(ref)
@@ -607,6 +613,9 @@ class _Builder:
             self.cert.boards.append(b)
         self.current = b
         return b
+
+    def page_problem(self, page: PageContent, reason: str) -> None:
+        self.cert.problems.append(page_problem(page.number, reason, page.width, page.height))
 
     def problem(self, message: str, **kw: object) -> None:
         self.cert.problems.append(ExtractionProblem(message, **kw))  # type: ignore[arg-type]
@@ -697,6 +706,9 @@ def assemble(
                     break
         if not sched.page_selected(page.number, page_count):
             continue
+        if not page.words:  # checked before page_pattern: an empty page matches no pattern
+            b.page_problem(page, "has no text layer: not read")
+            continue
         if sched.page_pattern and not sched.page_pattern.search(
             "\n".join(ln.text for ln in lines_all)
         ):
@@ -705,7 +717,19 @@ def assemble(
     for name, (values, boxes) in collected.items():
         box = boxes[0]
         cert.cells[name] = b.cell(name, ", ".join(values), box, None, None)
+    cert.problems.extend(account_boards(cert))
     return cert
+
+
+@functools.lru_cache(maxsize=32)
+def _ignoring_case(columns: tuple[ColumnSpec, ...]) -> tuple[ColumnSpec, ...]:
+    """The columns with their header patterns matched regardless of letter case."""
+    return tuple(
+        replace(c, header=re.compile(c.header.pattern, c.header.flags | re.IGNORECASE))
+        if c.header is not None
+        else c
+        for c in columns
+    )
 
 
 def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
@@ -730,14 +754,23 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
     sizes = sorted(w.size for w in words if w.size > 0)
     size = sizes[len(sizes) // 2] if sizes else 8.0
     headers: list[Header] = []
-    if cells:
-        headers = find_headers(
-            cols, grid_candidates(words, cells, sched.line_tolerance), anchor, 3 * size
-        )
+    grid_cands = grid_candidates(words, cells, sched.line_tolerance) if cells else []
+    if grid_cands:
+        headers = find_headers(cols, grid_cands, anchor, 3 * size)
     cands: list[Cand] = []
     if not headers:
         cands = text_candidates(lines, words)
         headers = find_headers(cols, cands, anchor, 3 * size)
+    if not headers:  # a header printed in other letter case: read it, but say so
+        ci = _ignoring_case(cols)
+        headers = (find_headers(ci, grid_cands, anchor, 3 * size) if grid_cands else []) or (
+            find_headers(ci, cands, anchor, 3 * size)
+        )
+        if headers:
+            b.page_problem(
+                page, "has column headers that match the layout only when letter case is "
+                "ignored: read with them"
+            )
 
     starts = []
     for ln in lines:
@@ -752,6 +785,18 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
             break
 
     carried = b.current  # the board running on from the previous page, if any
+    reused = None
+    if not headers and b.columns is not None and (carried is not None or starts):
+        # a continuation page repeating no header: the previous table's columns, below the
+        # last board heading printed above the rows (if any)
+        ext0, ruled0, from_page = b.columns
+        top = max([ln.bottom for ln, _ in starts if ln.top < end_y] + [region[1]])
+        reused = (ext0, from_page)
+        headers = [Header(top, top, ruled0 and bool(cells), {}, [])]
+        b.page_problem(page, f"has no column header: read with the columns of page {from_page}")
+    elif not headers:
+        b.page_problem(page, "has no column header the layout recognises: not read")
+    rows_before = sum(len(bd.circuits) for bd in b.cert.boards)
     # board headings and their fields
     for k, (ln, ref) in enumerate(starts):
         if ln.top >= end_y:
@@ -773,6 +818,11 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
                     spec.field, value, union_box(page.number, ws), ref, None
                 )
                 break
+        count = layout.board.circuit_count
+        if count is not None and board.declared_circuits is None:
+            for value, ws in _label_matches(LabelSpec("circuit_count", count), block):
+                board.declared_circuits = (value, union_box(page.number, ws))
+                break
 
     for k, h in enumerate(headers):
         before = [ref for ln, ref in starts if ln.top < h.top]
@@ -793,17 +843,29 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
                 field=cols[i].field,
                 board=board.ref,
             )
-        ext = column_extents(cols, h, cands, region[0], region[2])
+        if reused is not None:
+            ext = reused[0]
+        else:
+            ext = column_extents(cols, h, cands, region[0], region[2])
+            b.columns = (ext, h.ruled, page.number)
         data = [w for w in words if h.bottom < _centre_y(w) < bottom]
         key_x = (ext[key_col][0] + ext[key_col][1]) / 2
         ys = grid.row_rules(key_x, h.bottom, bottom) if h.ruled else []
         if h.ruled and len(ys) >= 2:
+            started = reused is None
             for y0, y1 in zip(ys, ys[1:], strict=False):
                 if not grid.closed(ext[key_col], y0, y1):
+                    if not started:
+                        continue  # reused columns: boxes above the table
                     break  # the table's rules stop: what follows is another box
                 band = [w for w in data if y0 < _centre_y(w) < y1]
-                row = _Row(page.number, y0, y1, _words_to_columns(band, ext))
-                b.add_row(row, ext, board)
+                assigned = _words_to_columns(band, ext)
+                if not started:  # reused columns: the table starts at its first row key
+                    key_text = " ".join(w.text for w in assigned.get(key_col, []))
+                    if not sched.row_key_pattern.search(key_text):
+                        continue
+                    started = True
+                b.add_row(_Row(page.number, y0, y1, assigned), ext, board)
             continue
         rows: list[_Row] = []
         for ln in group_lines(data, layout.schedule.line_tolerance):
@@ -818,6 +880,8 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
                     row.words.setdefault(i, []).extend(ws)
         for row in rows:
             b.add_row(row, ext, board)
+    if headers and sum(len(bd.circuits) for bd in b.cert.boards) == rows_before:
+        b.page_problem(page, "has no circuit rows")
     last = [ref for ln, ref in starts if ln.top < end_y]
     b.current = b.boards[last[-1]] if last else carried or b.current
 

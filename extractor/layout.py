@@ -80,6 +80,9 @@ class ScheduleSpec:
 class BoardSpec:
     start: re.Pattern[str]  # a line matching starts a new board; group `value` is its reference
     fields: tuple[LabelSpec, ...] = ()
+    # the number of circuits the form declares for the board (group `value`): the rows read
+    # are compared with it (extractor/accounting.py)
+    circuit_count: re.Pattern[str] | None = None
 
 
 @dataclass(frozen=True)
@@ -308,7 +311,7 @@ def parse_layout(data: dict[str, Any], path: str = "<layout>") -> Layout:
     if sched.line_tolerance <= 0:
         raise ctx.fail("schedule.line_tolerance", "must be above 0")
 
-    board_raw = ctx.table(top["board"], "board", {"start", "fields"})
+    board_raw = ctx.table(top["board"], "board", {"start", "fields", "circuit_count"})
     if "start" not in board_raw:
         raise ctx.fail(
             "board.start", "missing: a pattern with (?P<value>…) for the board reference"
@@ -316,6 +319,9 @@ def parse_layout(data: dict[str, Any], path: str = "<layout>") -> Layout:
     board = BoardSpec(
         start=ctx.regex(board_raw["start"], "board.start", need_value=True),
         fields=_labels(ctx, board_raw.get("fields", {}), "board.fields", BOARD),
+        circuit_count=ctx.regex(board_raw["circuit_count"], "board.circuit_count", need_value=True)
+        if "circuit_count" in board_raw
+        else None,
     )
     cert_raw = ctx.table(top.get("certificate", {}), "certificate", {"fields"})
     cert = _labels(ctx, cert_raw.get("fields", {}), "certificate.fields", CERTIFICATE)

@@ -130,6 +130,9 @@ class Board:
     cells: dict[str, Cell] = field(default_factory=dict)
     circuits: list[Circuit] = field(default_factory=list)
     page: int | None = None
+    # the circuit count the form declares for the board, as printed, and where (layout key
+    # `board.circuit_count`); used only to account for the rows read, not stored in the corpus
+    declared_circuits: tuple[str, Box] | None = None
 
     def value(self, name: str) -> Value:
         cell = self.cells.get(name)
