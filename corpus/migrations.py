@@ -173,24 +173,34 @@ ALTER TABLE certificates ADD COLUMN profile_name TEXT;
 ALTER TABLE certificates ADD COLUMN profile TEXT  -- JSON: checks.profile.Profile.to_dict()
 """
 
+# circuit fields of the A2:2022 model schedule added to extractor/fields.py: the RCD's own
+# standard and rating, insulation neutral-earth, SPD type and status indicator
+CIRCUIT_FIELDS_V3 = ("rcd_standard", "rcd_rating", "ir_neutral_earth", "spd_type", "spd_indicator")
+_V3 = "\n".join(
+    f"ALTER TABLE circuits ADD COLUMN {f}_{part} {kind};"
+    for f in CIRCUIT_FIELDS_V3
+    for part, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
+)
+
 # the certificate as a whole: dates of issue, edition, premises, age, signatures, observation
 # counts, supply and bonding sizes (extractor/fields.py, added with the whole-certificate checks)
-CERTIFICATE_FIELDS_V3 = (
+CERTIFICATE_FIELDS_V4 = (
     "issue_date", "bs7671_edition", "premises_type", "installation_age",
     "instrument_calibration", "designer_signature", "constructor_signature",
     "inspector_signature", "observations", "c1_count", "c2_count", "c3_count", "fi_count",
     "supply_csa", "main_earthing_csa", "main_bonding_csa", "electrode_ra", "spd_fitted",
 )
-_V3 = "\n".join(
+_V4 = "\n".join(
     f"ALTER TABLE certificates ADD COLUMN {f}_{suffix} {kind};"
-    for f in CERTIFICATE_FIELDS_V3
+    for f in CERTIFICATE_FIELDS_V4
     for suffix, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
 ) + "\nALTER TABLE check_runs ADD COLUMN reason TEXT;  -- why a check did not apply, or NULL"
 
 MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (1, "files, certificates, boards, circuits, findings, similarity index", _V1),
     (2, "certificates: rule profile used (profile_name, profile JSON)", _V2),
-    (3, "certificates: whole-certificate fields; check_runs.reason", _V3),
+    (3, "circuits: RCD standard and rating, IR neutral-earth, SPD type and indicator", _V3),
+    (4, "certificates: whole-certificate fields; check_runs.reason", _V4),
 )
 
 LATEST = MIGRATIONS[-1][0]

@@ -348,7 +348,10 @@ def text_candidates(lines: Sequence[Line], words: Sequence[Word]) -> list[Cand]:
         out.extend(c for c, _ in row)
 
     def mutual(a: Cand, b: Cand) -> bool:
-        return a.x0 <= b.cx <= a.x1 and b.x0 <= a.cx <= b.x1
+        # centred over each other, or left-aligned in one column ("Zs max" over "(Ω)")
+        if a.x0 <= b.cx <= a.x1 and b.x0 <= a.cx <= b.x1:
+            return True
+        return abs(a.x0 - b.x0) <= 1.0 and (a.x0 <= b.cx <= a.x1 or b.x0 <= a.cx <= b.x1)
 
     for i in range(len(runs) - 1):
         size = max((w.size for w in lines[i].words), default=8.0)
@@ -759,7 +762,10 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
         headers = find_headers(cols, grid_cands, anchor, 3 * size)
     cands: list[Cand] = []
     if not headers:
-        cands = text_candidates(lines, words)
+        # board heading lines (the board start and its label lines) are never column labels,
+        # however close above the header they are printed
+        heading = {id(ln) for ln in lines if _is_board_heading(ln.text, layout)}
+        cands = text_candidates([ln for ln in lines if id(ln) not in heading], words)
         headers = find_headers(cols, cands, anchor, 3 * size)
     if not headers:  # a header printed in other letter case: read it, but say so
         ci = _ignoring_case(cols)
@@ -884,6 +890,12 @@ def _schedule_page(page: PageContent, layout: Layout, b: _Builder) -> None:
         b.page_problem(page, "has no circuit rows")
     last = [ref for ln, ref in starts if ln.top < end_y]
     b.current = b.boards[last[-1]] if last else carried or b.current
+
+
+def _is_board_heading(text: str, layout: Layout) -> bool:
+    if layout.board.start.search(text):
+        return True
+    return any(spec.pattern.search(text) for spec in layout.board.fields)
 
 
 def _rule_in(r: Rule, region: tuple[float, float, float, float]) -> bool:

@@ -48,6 +48,10 @@ CIRCUIT_FIELDS: tuple[FieldSpec, ...] = (
     _c("breaking_capacity", "Breaking capacity", N, "kA"),
     _c("rcd_type", "RCD type", T),
     _c("rcd_idn", "RCD IΔn", N, "mA"),
+    # A2:2022 model schedule: the RCD's own standard and rated current when it is a device
+    # apart from the overcurrent device (BS 7671:2018+A2:2022 Appendix 6, from memory)
+    _c("rcd_standard", "RCD BS (EN)", T),
+    _c("rcd_rating", "RCD rating", N, "A"),
     _c("max_zs", "Max Zs (recorded)", N, "Ω"),
     _c("r1", "r1 (line end to end)", N, "Ω"),
     _c("rn", "rn (neutral end to end)", N, "Ω"),
@@ -58,12 +62,16 @@ CIRCUIT_FIELDS: tuple[FieldSpec, ...] = (
     _c("ir_test_voltage", "IR test voltage", N, "V"),
     _c("ir_live_live", "IR live-live", N, "MΩ"),
     _c("ir_live_earth", "IR live-earth", N, "MΩ"),
+    _c("ir_neutral_earth", "IR neutral-earth", N, "MΩ"),
     _c("polarity", "Polarity", C),
     _c("zs", "Measured Zs", N, "Ω"),
     _c("rcd_time", "RCD time at IΔn", N, "ms"),
     _c("rcd_time_5x", "RCD time at 5×IΔn", N, "ms"),
     _c("rcd_button", "RCD test button", C),
     _c("afdd_button", "AFDD test button", C),
+    # surge protection named on the circuit's row (type 1/2/3, status indicator seen)
+    _c("spd_type", "SPD type", T),
+    _c("spd_indicator", "SPD status indicator", C),
     _c("remarks", "Remarks", T),
 )
 

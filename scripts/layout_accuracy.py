@@ -1,16 +1,28 @@
 """How well drafted and final layouts read the fixture forms, measured against ground truth.
 
-For every fixture form (one sample PDF per form, its `<name>.truth.json` beside it) prints:
+Part 1, one sample per form (the PDF the draft is made from, its `<name>.truth.json` beside it):
 
 * matched — share of the circuit fields printed on the form that the draft matched to a column;
-* draft   — cell accuracy of the draft layout, as drafted, without edits;
-* final   — cell accuracy of the kept (hand-checked) layout named in the truth file.
+* draft   — cell accuracy of the draft layout on its own sample, as drafted, without edits;
+* final   — cell accuracy of the kept (hand-written) layout named in the truth file.
+
+Part 2, every certificate of every form, read with the unedited drafts (one draft per form,
+made from that form's sample; each certificate is recognised among all drafts, as `audit`
+does, and read with the draft that recognised it):
+
+* recognised — certificates of the form its own draft recognises (target 100 %);
+* by other   — certificates of OTHER forms this form's draft recognises (target 0);
+* rows       — circuits of the truth found on the right board (row recall, target 100 %);
+* cells      — cells whose text equals the printed text (target ≥ 97 %);
+* no layout  — the same cell accuracy read with no layout at all (`read_without_layout`).
 
 Cell accuracy = cells whose text equals the printed text (whitespace folded, NFKC) divided by
 the printed cells; circuits the layout reads that the truth does not hold count as errors.
-Pitfall PDFs (fixtures/forms_extra/<pitfall>-*.pdf) are measured with their final layout.
+Pitfall PDFs (fixtures/forms_extra/<pitfall>-*.pdf) are certificates of their form like any
+other in part 2, and are measured with their final layout by `--pitfalls`.
 
-Run: .venv/bin/python scripts/layout_accuracy.py [--engine words] [--pitfalls]
+Run: .venv/bin/python scripts/layout_accuracy.py [--engine pdfium] [--pitfalls] [-v]
+Figures are printed, never asserted here; tests/test_draft.py pins them as lower bounds.
 """
 
 from __future__ import annotations
@@ -19,25 +31,36 @@ import argparse
 import json
 import sys
 import tempfile
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 from extractor.tokens import normalise_text  # noqa: E402
 
-# one sample per form: the PDF the draft is made from and measured on
-SAMPLES = [
-    "fixtures/demo/grid-clean-01.pdf",
-    "fixtures/demo/plain-clean-04.pdf",
-    "fixtures/forms_extra/ledger-sample.pdf",
-    "fixtures/forms_extra/boxed-sample.pdf",
-]
+# one sample per form: the PDF the draft is made from (form name → sample)
+FORM_SAMPLES: dict[str, str] = {
+    "grid-landscape": "fixtures/demo/grid-clean-01.pdf",
+    "plain-columns": "fixtures/demo/plain-clean-04.pdf",
+    "ledger": "fixtures/forms_extra/ledger-sample.pdf",
+    "boxed": "fixtures/forms_extra/boxed-sample.pdf",
+    "twolevel-html": "fixtures/forms_new/twolevel-html-01.pdf",
+    "rotated-sheet": "fixtures/forms_new/rotated-sheet-01.pdf",
+    "stacked-canvas": "fixtures/forms_new/stacked-canvas-01.pdf",
+}
+SAMPLES = list(FORM_SAMPLES.values())
+FIXTURE_DIRS = ("fixtures/demo", "fixtures/forms_extra", "fixtures/forms_new")
 PITFALLS = sorted(
     str(p.relative_to(ROOT))
     for p in (ROOT / "fixtures/forms_extra").glob("*.pdf")
     if not p.stem.endswith("-sample")
+)
+# PDFs whose tables look like no certificate: the drafter must refuse them
+NOT_CERTIFICATES = sorted(
+    str(p.relative_to(ROOT)) for p in (ROOT / "fixtures/forms_new").glob("not-a-certificate-*.pdf")
 )
 
 
@@ -46,23 +69,59 @@ class Score:
     correct: int = 0
     total: int = 0
     extra_rows: int = 0
+    rows_found: int = 0
+    rows_total: int = 0
     wrong: list[str] = field(default_factory=list)
 
     @property
     def share(self) -> float:
         return self.correct / self.total if self.total else 0.0
 
+    @property
+    def row_recall(self) -> float:
+        return self.rows_found / self.rows_total if self.rows_total else 0.0
 
-def load_truth(pdf: str | Path) -> dict:
+    def add(self, other: Score) -> None:
+        self.correct += other.correct
+        self.total += other.total
+        self.extra_rows += other.extra_rows
+        self.rows_found += other.rows_found
+        self.rows_total += other.rows_total
+        self.wrong += other.wrong[: max(0, 12 - len(self.wrong))]
+
+
+def load_truth(pdf: str | Path) -> dict[str, Any]:
     p = Path(pdf)
-    return json.loads(p.with_name(p.stem + ".truth.json").read_text(encoding="utf-8"))
+    data: dict[str, Any] = json.loads(
+        p.with_name(p.stem + ".truth.json").read_text(encoding="utf-8")
+    )
+    return data
 
 
-def _norm(s: str) -> str:
+def certificates_by_form() -> dict[str, list[str]]:
+    """Every fixture PDF with a truth file, grouped by the form named in its truth."""
+    out: dict[str, list[str]] = {}
+    for d in FIXTURE_DIRS:
+        for truth in sorted((ROOT / d).glob("*.truth.json")):
+            pdf = truth.with_name(truth.name.removesuffix(".truth.json") + ".pdf")
+            form = json.loads(truth.read_text(encoding="utf-8"))["form"]
+            out.setdefault(form, []).append(str(pdf.relative_to(ROOT)))
+    return out
+
+
+def _norm(s: str | None) -> str:
     return normalise_text(s or "")
 
 
-def cell_accuracy(cert, truth: dict) -> Score:
+def _cell_count(truth: dict[str, Any]) -> int:
+    return sum(len(c) for b in truth["boards"] for c in b["circuits"])
+
+
+def _row_count(truth: dict[str, Any]) -> int:
+    return sum(len(b["circuits"]) for b in truth["boards"])
+
+
+def cell_accuracy(cert: Any, truth: dict[str, Any]) -> Score:
     """Compare every printed circuit cell of the truth with the certificate's raw text."""
     sc = Score()
     boards = list(cert.boards)
@@ -73,9 +132,11 @@ def cell_accuracy(cert, truth: dict) -> Score:
             got_b = boards[k]
         pool = list(got_b.circuits) if got_b else []
         for tc in tb["circuits"]:
+            sc.rows_total += 1
             c = next((x for x in pool if x.ref == tc["circuit_ref"]), None)
             if c is not None:
                 pool.remove(c)
+                sc.rows_found += 1
             for name, text in tc.items():
                 sc.total += 1
                 have = c.value(name).raw if c is not None else None
@@ -96,8 +157,14 @@ def cell_accuracy(cert, truth: dict) -> Score:
     return sc
 
 
-def printed_fields(truth: dict) -> set[str]:
+def printed_fields(truth: dict[str, Any]) -> set[str]:
     return {f for b in truth["boards"] for c in b["circuits"] for f in c}
+
+
+def _unread(truth: dict[str, Any], why: str) -> Score:
+    sc = Score(total=_cell_count(truth), rows_total=_row_count(truth))
+    sc.wrong.append(why)
+    return sc
 
 
 def measure_layout(pdf: str, layout_path: str | Path, engine: str | None = None) -> Score:
@@ -109,9 +176,7 @@ def measure_layout(pdf: str, layout_path: str | Path, engine: str | None = None)
     try:
         cert = extract(str(ROOT / pdf), load_layout(layout_path), engine=engine)
     except InputError as exc:
-        sc = Score(total=sum(len(c) for b in truth["boards"] for c in b["circuits"]))
-        sc.wrong.append(str(exc))
-        return sc
+        return _unread(truth, str(exc))
     return cell_accuracy(cert, truth)
 
 
@@ -139,12 +204,114 @@ def measure_form(pdf: str, engine: str = "pdfium") -> FormResult:
     return FormResult(pdf, len(want & got) / len(want), draft, final, sorted(want - got))
 
 
+# --- part 2: every certificate with the unedited drafts -----------------------------------------
+
+
+def read_without_layout(pdf: str) -> Any | None:
+    """Hook for the "with no layout at all" figure: read `pdf` the way `audit` does when no
+    layout recognises it, and return the Certificate (or None when it refuses). Not built yet
+    (issue #9 item 2): returns None, and the figure is printed as "not measured"."""
+    return None
+
+
+@dataclass
+class FormFigures:
+    form: str
+    sample: str
+    certificates: int = 0
+    recognised: int = 0  # by the form's own draft
+    by_other: int = 0  # certificates of other forms this form's draft recognises
+    read: Score = field(default_factory=Score)
+    no_layout: Score | None = None
+    draft_error: str = ""
+
+    @property
+    def recognised_share(self) -> float:
+        return self.recognised / self.certificates if self.certificates else 0.0
+
+
+def draft_all(engine: str = "pdfium", out: Path | None = None) -> dict[str, Any]:
+    """form → its unedited draft Layout (or the DraftError text), drafted from FORM_SAMPLES."""
+    from extractor.draft import draft_layout
+    from extractor.errors import InputError
+    from extractor.layout import load_layout
+
+    drafts: dict[str, Any] = {}
+    with tempfile.TemporaryDirectory() as tmp:
+        folder = out or Path(tmp)
+        for form, sample in FORM_SAMPLES.items():
+            try:
+                res = draft_layout(ROOT / sample, engine=engine, name=form)
+            except InputError as exc:
+                drafts[form] = str(exc)
+                continue
+            path = folder / f"{form}.toml"
+            path.write_text(res.toml, encoding="utf-8")
+            drafts[form] = load_layout(path)
+    return drafts
+
+
+def measure_all(
+    engine: str = "pdfium",
+    forms: dict[str, list[str]] | None = None,
+    no_layout: Callable[[str], Any | None] = read_without_layout,
+) -> list[FormFigures]:
+    """Part 2: draft one sample per form, then read every certificate with the drafts."""
+    from extractor.api import _first_recognising, extract, page_text
+    from extractor.errors import InputError
+
+    forms = forms or certificates_by_form()
+    drafts = draft_all(engine)
+    layouts = [lay for lay in drafts.values() if not isinstance(lay, str)]
+    figures = {f: FormFigures(f, FORM_SAMPLES.get(f, "")) for f in forms}
+    for form, d in drafts.items():
+        if isinstance(d, str) and form in figures:
+            figures[form].draft_error = d
+    for form, pdfs in forms.items():
+        fig = figures[form]
+        for pdf in pdfs:
+            fig.certificates += 1
+            truth = load_truth(ROOT / pdf)
+            try:
+                texts = page_text(str(ROOT / pdf), pages=2)
+            except InputError as exc:
+                fig.read.add(_unread(truth, str(exc)))
+                continue
+            for other, lay in drafts.items():
+                if isinstance(lay, str) or other == form or other not in figures:
+                    continue
+                if _first_recognising(texts, [lay]) is not None:
+                    figures[other].by_other += 1
+            own = drafts.get(form)
+            if not isinstance(own, str) and own is not None:
+                fig.recognised += _first_recognising(texts, [own]) is not None
+            chosen = _first_recognising(texts, layouts)
+            if chosen is None:
+                fig.read.add(_unread(truth, f"{pdf}: no draft recognises it"))
+            else:
+                try:
+                    cert = extract(str(ROOT / pdf), chosen, engine=engine)
+                    fig.read.add(cell_accuracy(cert, truth))
+                except InputError as exc:
+                    fig.read.add(_unread(truth, str(exc)))
+            got = no_layout(str(ROOT / pdf))
+            if got is not None:
+                fig.no_layout = fig.no_layout or Score()
+                fig.no_layout.add(cell_accuracy(got, truth))
+    return list(figures.values())
+
+
+def _pct(x: float) -> str:
+    return f"{x:.1%}"
+
+
 def main(argv: list[str] | None = None) -> int:
-    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap = argparse.ArgumentParser(description=(__doc__ or "").splitlines()[0])
     ap.add_argument("--engine", default="pdfium")
     ap.add_argument("--pitfalls", action="store_true", help="also measure the pitfall PDFs")
     ap.add_argument("-v", "--verbose", action="store_true", help="list wrong cells")
     args = ap.parse_args(argv)
+    print("Part 1: each form's sample, drafted and read with its draft and its final layout")
     print(f"{'form sample':<44} {'matched':>8} {'draft':>8} {'final':>8}")
     for pdf in SAMPLES:
         r = measure_form(pdf, args.engine)
@@ -159,6 +326,32 @@ def main(argv: list[str] | None = None) -> int:
                 print(f"    draft: {w}")
             for w in r.final.wrong:
                 print(f"    final: {w}")
+    print("\nPart 2: every certificate of every form, read with the unedited drafts")
+    print(
+        f"{'form':<16} {'certs':>5} {'recognised':>10} {'by other':>8} {'rows':>8} "
+        f"{'cells':>8} {'no layout':>10}"
+    )
+    for fig in measure_all(args.engine):
+        nl = _pct(fig.no_layout.share) if fig.no_layout else "not measured"
+        print(
+            f"{fig.form:<16} {fig.certificates:>5} {_pct(fig.recognised_share):>10} "
+            f"{fig.by_other:>8} {_pct(fig.read.row_recall):>8} {_pct(fig.read.share):>8} {nl:>10}"
+        )
+        if fig.draft_error:
+            print(f"    draft refused: {fig.draft_error}")
+        if args.verbose:
+            for w in fig.read.wrong:
+                print(f"    {w}")
+    print("\nPDFs that are no certificate (the drafter must refuse them)")
+    from extractor.draft import draft_layout
+    from extractor.errors import InputError
+
+    for pdf in NOT_CERTIFICATES:
+        try:
+            draft_layout(ROOT / pdf, engine=args.engine)
+            print(f"{pdf:<60} NOT REFUSED")
+        except InputError as exc:
+            print(f"{pdf:<60} refused: {str(exc).split(': ', 1)[-1]}")
     if args.pitfalls:
         print(f"\n{'pitfall PDF (final layout)':<60} {'final':>8}")
         for pdf in PITFALLS:
