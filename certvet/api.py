@@ -90,6 +90,11 @@ class BatchSummary:
         return len(self.audited) + len(self.failed)
 
 
+REPORT_FORMATS = ("html", "json", "csv", "summary", "queries")
+"""What a per-certificate audit writes: the report (HTML, JSON, CSV), the landlord's summary
+(`<stem>.summary.html`) and the contractor's query sheet (`<stem>.queries.html`)."""
+
+
 def audit_file(
     pdf: str | Path,
     *,
@@ -99,7 +104,7 @@ def audit_file(
     out_dir: Path | None = None,
     engine: str | None = None,
     password: str | None = None,
-    formats: Iterable[str] = ("html", "json", "csv"),
+    formats: Iterable[str] = REPORT_FORMATS,
     stem: str | None = None,
     audit_date: date | None = None,
 ) -> AuditResult:
@@ -142,11 +147,12 @@ def write_reports(
     stem: str | None = None,
 ) -> dict[str, Path]:
     """Write the certificate's reports as `<out_dir>/<stem>.html|.json|.records.csv|
-    .findings.csv` (stem: the PDF's name by default). A folder that cannot be written is a
-    ReportWriteError (an InputError) naming it, never a traceback."""
+    .findings.csv|.summary.html|.queries.html` (stem: the PDF's name by default). A folder
+    that cannot be written is a ReportWriteError (an InputError) naming it, never a traceback."""
     from reports.csvout import write_csv
     from reports.html import write_html
     from reports.jsonout import write_json
+    from reports.readers import write_query_sheet, write_summary
 
     stem = stem or result.source.stem
     cert, res = result.certificate, result.results
@@ -163,6 +169,12 @@ def write_reports(
         if "csv" in fmts:
             records, findings = write_csv(cert, res, out_dir / stem)
             outputs["records_csv"], outputs["findings_csv"] = Path(records), Path(findings)
+        if "summary" in fmts:
+            outputs["summary"] = write_summary(cert, res, out_dir / f"{stem}.summary.html",
+                                               certvet_version=__version__)
+        if "queries" in fmts:
+            outputs["queries"] = write_query_sheet(cert, res, out_dir / f"{stem}.queries.html",
+                                                   certvet_version=__version__)
     except OSError as exc:
         where = exc.filename or out_dir
         why = exc.strerror or exc

@@ -174,10 +174,10 @@ def report_stem(source: Path, sha256: str) -> str:
 
 def write_certificate_reports(result: AuditResult, out_dir: Path, profile: Profile
                               ) -> dict[str, Path]:
-    from certvet.api import write_reports
+    from certvet.api import REPORT_FORMATS, write_reports
 
     stem = report_stem(result.source, result.certificate.sha256)
-    return write_reports(result, out_dir, ("html", "json", "csv"), profile, stem)
+    return write_reports(result, out_dir, REPORT_FORMATS, profile, stem)
 
 
 @dataclass(frozen=True)

@@ -10,7 +10,7 @@ from datetime import UTC, datetime
 from functools import lru_cache
 from pathlib import Path
 
-from jinja2 import Environment, FileSystemLoader, StrictUndefined
+from jinja2 import Environment, FileSystemLoader, StrictUndefined, Template
 
 from checks.profile import Profile
 from checks.runner import CheckResults
@@ -36,6 +36,11 @@ def _environment() -> Environment:
 def warm_up() -> None:
     """Compile the template now (e.g. before forking workers)."""
     _environment().get_template("certificate.html.j2")
+
+
+def template(name: str) -> Template:
+    """A template of reports/templates from the one cached environment."""
+    return _environment().get_template(name)
 
 
 def render_view(view: ReportView) -> str:

@@ -259,6 +259,10 @@ def _field_label(f: Finding) -> str:
     return f.field
 
 
+location_text = _location  # "Board DB1, circuit 4": public for the reader outputs
+field_label = _field_label
+
+
 def _check_title(check_id: str, runs: dict[str, CheckRun]) -> str:
     if check_id in runs:
         return runs[check_id].title
