@@ -42,7 +42,6 @@ impossible finding; else 0. Cross-certificate findings are queries: they never c
 
 from __future__ import annotations
 
-import csv
 import json
 import os
 from collections.abc import Callable, Iterable, Iterator, Sequence
@@ -51,10 +50,12 @@ from enum import StrEnum
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from certvet.exitcodes import EXIT_CLEAN, EXIT_FAILED, EXIT_FINDINGS
 from certvet.workers import Limits, Outcome, run_isolated
 from checks.profile import DEFAULT_PROFILE, Profile
 from extractor.errors import InputError
 from extractor.layout import Layout
+from extractor.untrusted import one_line
 
 if TYPE_CHECKING:
     from certvet.api import AuditResult
@@ -64,7 +65,6 @@ if TYPE_CHECKING:
 
 __all__ = ["BatchReport", "FileOutcome", "Status", "run_batch", "write_portfolio"]
 
-EXIT_CLEAN, EXIT_FINDINGS, EXIT_FAILED = 0, 1, 3
 REPORTS_SUBDIR = "certificates"
 # readings an inspector measures (last-digit chart); ratings, sizes and test voltages are not
 MEASURED_FIELDS = frozenset({"r1", "rn", "r2", "r1_r2", "r1_rn", "r2_only", "ir_live_live",
@@ -94,13 +94,13 @@ class FileOutcome:
     reports: dict[str, Path] = field(default_factory=dict)
 
     def line(self) -> str:
-        """One line for the console."""
+        """One line for the console (control characters in names and reasons escaped)."""
         if self.status is Status.AUDITED:
-            return (f"{(self.verdict or '').upper():<22} {self.path}  ({self.findings} findings, "
-                    f"layout {self.layout})")
+            return one_line(f"{(self.verdict or '').upper():<22} {self.path}  ({self.findings} "
+                            f"findings, layout {self.layout})")
         if self.status is Status.SKIPPED:
-            return f"{'SKIPPED':<22} {self.reason}"
-        return f"{'FAILED':<22} {self.reason}"
+            return one_line(f"{'SKIPPED':<22} {self.reason}")
+        return one_line(f"{'FAILED':<22} {self.reason}")
 
 
 @dataclass
@@ -559,19 +559,16 @@ def _unrecorded(profile: Profile) -> Profile:
 
 def write_cross_findings(found: Sequence[CrossFinding], out_dir: Path) -> tuple[Path, Path]:
     from checks.model import FINDING_COLUMNS
+    from reports.csvout import write_table
 
     out_dir.mkdir(parents=True, exist_ok=True)
     rows = [cf.finding.to_dict() for cf in found]
     js = out_dir / "cross-findings.json"
     js.write_text(json.dumps({"format_version": 1, "findings": rows}, indent=1),
                   encoding="utf-8")
-    cs = out_dir / "cross-findings.csv"
     cols = [c for c in FINDING_COLUMNS if c != "box"] + ["related"]
-    with cs.open("w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
-        w.writerow(cols)
-        for r in rows:
-            w.writerow(["; ".join(r[c]) if c == "related" else r[c] for c in cols])
+    cs = write_table(out_dir / "cross-findings.csv", cols,
+                     (["; ".join(r[c]) if c == "related" else r[c] for c in cols] for r in rows))
     return js, cs
 
 

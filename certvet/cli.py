@@ -1,18 +1,22 @@
 """The `certvet` command: a thin layer over certvet.api.
 
 Heavy libraries are imported inside the commands, so `certvet --help` answers quickly.
-Exit status of `audit`/`demo`: 0 no breach or impossible result found; 1 at least one;
-3 at least one input could not be audited (2 is a usage error, from typer).
+Exit codes: certvet/exitcodes.py (one table, shown in README).
 """
 
 from __future__ import annotations
 
+import os
 import sys
 from enum import StrEnum
 from pathlib import Path
 from typing import TYPE_CHECKING, Annotated, Optional
 
 import typer
+
+from certvet.console import err as _err
+from certvet.console import one_line
+from certvet.exitcodes import EXIT_CLEAN, EXIT_FAILED, EXIT_FINDINGS, EXIT_INTERNAL, EXIT_USAGE
 
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from certvet.api import AuditResult
@@ -32,17 +36,10 @@ app = typer.Typer(
     pretty_exceptions_enable=False,
 )
 
-EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, EXIT_FAILED = 0, 1, 2, 3
-
-
 class EngineChoice(StrEnum):
     pdfium = "pdfium"
     pdfplumber = "pdfplumber"
     lattice = "lattice"
-
-
-def _err(message: str) -> None:
-    typer.echo(f"certvet: {message}", err=True)
 
 
 def _make_out_dir(out: Path) -> None:
@@ -102,12 +99,15 @@ def _run_batch(
         if error and quiet:
             _err(error)  # --quiet prints nothing but errors
         if error:
-            lines.append(f"{'FAILED':<22} {error}")
+            lines.append(f"{'FAILED':<22} {one_line(error)}")
         else:
             assert result is not None  # audit_many gives a result or an error
             v = result.verdict
             n = len([f for f in result.results.findings if not f.preview])
-            lines.append(f"{v.label.upper():<22} {path}  ({n} findings, layout {result.layout})")
+            lines.append(
+                f"{v.label.upper():<22} {one_line(str(path))}  ({n} findings, layout "
+                f"{result.layout})"
+            )
         if not show_bar and not quiet:
             typer.echo(lines[-1])
 
@@ -149,7 +149,7 @@ def _run_batch(
             f"{len(summary.failed)} failed; reports in {out_dir}"
         )
         for f in summary.failed:
-            typer.echo(f"  failed: {f.reason}")
+            typer.echo(f"  failed: {one_line(f.reason)}")
         typer.echo(
             "A desk check cannot show an installation is safe; "
             "defer to BS 7671 and licensed practice."
@@ -222,7 +222,7 @@ def demo(
     if not any(DEMO_DIR.glob("*.pdf")):
         _err(f"{DEMO_DIR}: no demo PDFs found (run: python fixtures/generate.py)")
         raise typer.Exit(EXIT_FAILED)
-    code = EXIT_CLEAN
+    code: int = EXIT_CLEAN
     try:
         batch(
             [DEMO_DIR], layout=[DEMO_LAYOUTS], store=out / "corpus.sqlite", out=out,
@@ -297,15 +297,15 @@ def check_layout(
         found = sorted(p.rglob("*.toml")) if p.is_dir() else [p]
         if not found:
             bad += 1
-            typer.echo(f"invalid  {p}: no layout files (*.toml) in this folder")
+            typer.echo(f"invalid  {one_line(str(p))}: no layout files (*.toml) in this folder")
         files.extend(found)
     for f in files:
         try:
             lay = load_layout(f)
-            typer.echo(f"ok       {f} (form {lay.name}, {len(lay.columns)} columns)")
+            typer.echo(f"ok       {one_line(str(f))} (form {lay.name}, {len(lay.columns)} columns)")
         except LayoutError as exc:
             bad += 1
-            typer.echo(f"invalid  {exc}")
+            typer.echo(f"invalid  {one_line(str(exc))}")
     raise typer.Exit(EXIT_USAGE if bad else EXIT_CLEAN)
 
 
@@ -327,7 +327,18 @@ _mount_optional()
 
 
 def main() -> None:
-    app()
+    """The console entry point: an uncaught error is one line and its own exit code, never a
+    traceback (CERTVET_DEBUG=1 shows it) and never the code of a finding."""
+    try:
+        app()
+    except KeyboardInterrupt:
+        _err("interrupted")
+        sys.exit(130)
+    except Exception as exc:  # a bug: say so in one line
+        if os.environ.get("CERTVET_DEBUG"):
+            raise
+        _err(f"internal error ({type(exc).__name__}: {exc}); set CERTVET_DEBUG=1 for details")
+        sys.exit(EXIT_INTERNAL)
 
 
 if __name__ == "__main__":

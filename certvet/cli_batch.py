@@ -13,16 +13,14 @@ from typing import Annotated, Any, Optional
 
 import typer
 
-EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, EXIT_FAILED = 0, 1, 2, 3
+from certvet.console import err as _err
+from certvet.console import one_line
+from certvet.exitcodes import EXIT_FAILED, EXIT_USAGE
 
 
 class ExportFormat(StrEnum):
     csv = "csv"
     parquet = "parquet"
-
-
-def _err(message: str) -> None:
-    typer.echo(f"certvet: {message}", err=True)
 
 
 def _why(exc: OSError) -> str:
@@ -148,15 +146,15 @@ def batch(
         if report.unrecognised:
             typer.echo(f"{len(report.unrecognised)} file(s) no layout recognises:")
             for o in report.unrecognised:
-                typer.echo(f"  {o.path}")
+                typer.echo(f"  {one_line(str(o.path))}")
         for cf in report.cross_findings:
             f = cf.finding
-            typer.echo(f"CROSS    {f.certificate}: {f.check_id}: {f.message}")
+            typer.echo(one_line(f"CROSS    {f.certificate}: {f.check_id}: {f.message}"))
     typer.echo(f"\n{len(report.outcomes)} file(s): {t['audited']} audited, {t['skipped']} "
                f"skipped, {t['failed']} failed; {len(report.cross_findings)} cross-certificate "
                f"finding(s); store {store}; portfolio {report.portfolio}")
     for o in report.failed:
-        typer.echo(f"  failed: {o.reason}")
+        typer.echo(f"  failed: {one_line(o.reason or '')}")
     typer.echo("A desk check cannot show an installation is safe; "
                "defer to BS 7671 and licensed practice.")
     raise typer.Exit(report.exit_code)

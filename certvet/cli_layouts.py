@@ -5,8 +5,9 @@
     certvet try-layout SAMPLE.pdf --layout layout.toml
 
 Mount with ``cli_layouts.register(app)`` (or ``app.add_typer(cli_layouts.app)`` for a group).
-Heavy libraries are imported inside the commands. Exit codes: 0 done; 2 usage error (bad
-layout file); 3 the PDF could not be read or gave no draft / no circuits.
+Heavy libraries are imported inside the commands. Exit codes (certvet/exitcodes.py): 0 done;
+2 usage error (bad layout file); 3 the PDF could not be read or gave no draft / no circuits.
+PDF text is printed as text, never as markup (certvet/console.py).
 """
 
 from __future__ import annotations
@@ -18,6 +19,10 @@ from typing import TYPE_CHECKING, Annotated
 
 import typer
 
+from certvet.console import err as _err
+from certvet.console import plain_console
+from certvet.exitcodes import EXIT_FAILED, EXIT_USAGE
+
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from extractor.layout import Layout
 
@@ -28,7 +33,6 @@ app = typer.Typer(
     help="Write and check layout files for new certificate forms.",
 )
 
-EXIT_USAGE, EXIT_FAILED = 2, 3
 
 class EngineName(StrEnum):
     pdfium = "pdfium"
@@ -43,10 +47,6 @@ OptionalEngine = Annotated[
     EngineName | None,
     typer.Option("--engine", help="Override the layout's engine: pdfium, pdfplumber or lattice."),
 ]
-
-
-def _err(message: str) -> None:
-    typer.echo(f"certvet: {message}", err=True)
 
 
 def _layout(path: Path) -> Layout:
@@ -76,10 +76,10 @@ def draft_layout_cmd(
     except InputError as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_FAILED) from None
-    from rich.console import Console
     from rich.table import Table
+    from rich.text import Text
 
-    con = Console(stderr=out is None)
+    con = plain_console(stderr=out is None)
     t = Table(
         title=f"{len(result.matched_fields)} field(s) matched "
         f"({'ruled' if result.ruled else 'unruled'} table, pages {result.schedule_pages})"
@@ -87,16 +87,14 @@ def draft_layout_cmd(
     for h in ("field", "header as printed", "confidence", "note"):
         t.add_column(h)
     for f, label, conf, note in result.table():
-        t.add_row(f, label, f"[yellow]{conf:.2f}[/yellow]" if conf < 0.75 else f"{conf:.2f}", note)
+        t.add_row(f, label, Text(f"{conf:.2f}", style="yellow" if conf < 0.75 else ""), note)
     con.print(t)
     for lab in result.labels:
         con.print(f"{lab.level} {lab.field}: {lab.example!r}")
-    for u in result.unplaced:
-        con.print(f"[yellow]not placed:[/yellow] {u}")
-    for a in result.ambiguities:
-        con.print(f"[yellow]ambiguous:[/yellow] {a}")
-    for n in result.notes:
-        con.print(f"[yellow]note:[/yellow] {n}")
+    for head, items in (("not placed:", result.unplaced), ("ambiguous:", result.ambiguities),
+                        ("note:", result.notes)):
+        for item in items:
+            con.print(Text.assemble((head, "yellow"), " ", str(item)))
     if out is None:
         typer.echo(result.toml)
     else:
@@ -141,8 +139,6 @@ def try_layout_cmd(
     engine: OptionalEngine = None,
 ) -> None:
     """Read the PDF with the layout; print the rows and every cell that did not parse."""
-    from rich.console import Console
-
     from extractor.errors import InputError
     from extractor.preview import rich_tables, try_layout
 
@@ -156,7 +152,7 @@ def try_layout_cmd(
         _err(res.message)
         raise typer.Exit(EXIT_FAILED)
     # piped or redirected: rich would squeeze the table into 80 columns; give it its own width
-    con = Console() if sys.stdout.isatty() else Console(width=1000)
+    con = plain_console() if sys.stdout.isatty() else plain_console(width=1000)
     for t in rich_tables(res, lay):
         con.print(t)
     if not res.unparsed:

@@ -182,17 +182,25 @@ _V3 = "\n".join(
     for part, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
 )
 
+# a board-level RCD (RCD main switch, or the RCD of a split-load board) and the ways it protects
+BOARD_FIELDS_V4 = ("board_rcd_idn", "board_rcd_ways")
+_V4 = "\n".join(
+    f"ALTER TABLE boards ADD COLUMN {f}_{part} {kind};"
+    for f in BOARD_FIELDS_V4
+    for part, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
+)
+
 # the certificate as a whole: dates of issue, edition, premises, age, signatures, observation
 # counts, supply and bonding sizes (extractor/fields.py, added with the whole-certificate checks)
-CERTIFICATE_FIELDS_V4 = (
+CERTIFICATE_FIELDS_V5 = (
     "issue_date", "bs7671_edition", "premises_type", "installation_age",
     "instrument_calibration", "designer_signature", "constructor_signature",
     "inspector_signature", "observations", "c1_count", "c2_count", "c3_count", "fi_count",
     "supply_csa", "main_earthing_csa", "main_bonding_csa", "electrode_ra", "spd_fitted",
 )
-_V4 = "\n".join(
+_V5 = "\n".join(
     f"ALTER TABLE certificates ADD COLUMN {f}_{suffix} {kind};"
-    for f in CERTIFICATE_FIELDS_V4
+    for f in CERTIFICATE_FIELDS_V5
     for suffix, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
 ) + "\nALTER TABLE check_runs ADD COLUMN reason TEXT;  -- why a check did not apply, or NULL"
 
@@ -200,7 +208,8 @@ MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (1, "files, certificates, boards, circuits, findings, similarity index", _V1),
     (2, "certificates: rule profile used (profile_name, profile JSON)", _V2),
     (3, "circuits: RCD standard and rating, IR neutral-earth, SPD type and indicator", _V3),
-    (4, "certificates: whole-certificate fields; check_runs.reason", _V4),
+    (4, "boards: board RCD IΔn and the ways it protects (split-load boards)", _V4),
+    (5, "certificates: whole-certificate fields; check_runs.reason", _V5),
 )
 
 LATEST = MIGRATIONS[-1][0]

@@ -54,6 +54,7 @@ from extractor.records import (
     ValueKind,
 )
 from extractor.tokens import normalise_text, parse_value
+from extractor.untrusted import spreadsheet_cell
 
 _SQLITE_MAGIC = b"SQLite format 3\x00"
 EXPORT_TABLES = ("files", "certificates", "boards", "circuits", "findings", "check_runs",
@@ -567,8 +568,8 @@ class Corpus:
             with self._guard(f"export {table}"):
                 df = pd.read_sql_query(f"SELECT * FROM {table}", self.conn)
             target = out_dir / f"{table}.{format}"
-            if format == "csv":
-                df.to_csv(target, index=False)
+            if format == "csv":  # text from PDFs: formula-like cells made spreadsheet-safe
+                df.map(spreadsheet_cell).to_csv(target, index=False)
             else:
                 df.to_parquet(target, index=False)
             written.append(target)

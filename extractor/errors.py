@@ -2,12 +2,14 @@
 
 from __future__ import annotations
 
+from extractor.untrusted import one_line
+
 
 class InputError(Exception):
     """A file that cannot be read as a certificate (not a PDF, encrypted, no text layer…)."""
 
     def __init__(self, path: str, reason: str) -> None:
-        super().__init__(f"{path}: {reason}")
+        super().__init__(one_line(f"{path}: {reason}"))
         self.path = path
         self.reason = reason
 

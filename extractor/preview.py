@@ -275,8 +275,10 @@ def try_layout(pdf: str | Path, layout: Layout, *, engine: str | None = None) ->
 
 
 def rich_tables(result: TryResult, layout: Layout) -> list[Any]:
-    """The rows read (one rich Table per board) and a table of every cell that did not parse."""
+    """The rows read (one rich Table per board) and a table of every cell that did not parse.
+    PDF text goes in as `Text`, never as markup: "[/red]" in a cell prints as written."""
     from rich.table import Table
+    from rich.text import Text
 
     out: list[Any] = []
     cert = result.certificate
@@ -285,7 +287,8 @@ def rich_tables(result: TryResult, layout: Layout) -> list[Any]:
     fields = layout.column_fields()
     for b in cert.boards:
         t = Table(
-            title=f"board {b.ref or '(unnamed)'}: {len(b.circuits)} circuit(s)", show_lines=False
+            title=Text(f"board {b.ref or '(unnamed)'}: {len(b.circuits)} circuit(s)"),
+            show_lines=False,
         )
         for f in fields:
             t.add_column(f, overflow="fold")
@@ -294,7 +297,7 @@ def rich_tables(result: TryResult, layout: Layout) -> list[Any]:
             for f in fields:
                 v = c.value(f)
                 text = v.raw
-                row.append(f"[red]{text}[/red]" if v.kind is ValueKind.UNREADABLE else text)
+                row.append(Text(text, style="red" if v.kind is ValueKind.UNREADABLE else ""))
             t.add_row(*row)
         out.append(t)
     if result.unparsed:
@@ -302,6 +305,6 @@ def rich_tables(result: TryResult, layout: Layout) -> list[Any]:
         for h in ("board", "circuit", "field", "text", "problem"):
             t.add_column(h)
         for problem in result.unparsed:
-            t.add_row(*problem)
+            t.add_row(*(Text(str(p)) for p in problem))
         out.append(t)
     return out

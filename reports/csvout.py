@@ -2,16 +2,15 @@
 ``extractor.frame.circuits_frame``) and ``<stem>.findings.csv`` (the columns of
 ``checks.model.FINDING_COLUMNS``).
 
-Cell text comes from untrusted PDFs and these files are opened in spreadsheets, so text that a
-spreadsheet would run as a formula (starting with ``=``, ``+``, ``@``, a tab or carriage
-return, or ``-`` followed by anything but a number) is written with a leading apostrophe.
-Readings such as ``-`` and ``-0.01`` are left as printed.
+Cell text comes from untrusted PDFs and these files are opened in spreadsheets: every cell
+goes through `extractor.untrusted.spreadsheet_cell` (formula-like text gets a leading
+apostrophe), the one rule every CSV writer of certvet uses (`write_table`).
 """
 
 from __future__ import annotations
 
 import csv
-import re
+from collections.abc import Iterable, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -19,18 +18,22 @@ from checks.model import FINDING_COLUMNS
 from checks.runner import CheckResults
 from extractor.frame import circuit_rows, frame_columns
 from extractor.records import Box, Certificate
+from extractor.untrusted import spreadsheet_cell
+from extractor.untrusted import spreadsheet_safe as neutralise
 
-_PLAIN_NEGATIVE = re.compile(r"^-+\s*$|^-\s*\d+([.,]\d+)?\s*[a-zA-ZΩμ²/]*$")
+__all__ = ["neutralise", "write_csv", "write_findings_csv", "write_records_csv", "write_table"]
 
 
-def neutralise(text: str) -> str:
-    """Make one text value safe to open in a spreadsheet."""
-    if not text:
-        return text
-    first = text[0]
-    if first in "=+@\t\r" or (first == "-" and not _PLAIN_NEGATIVE.match(text)):
-        return "'" + text
-    return text
+def write_table(path: str | Path, columns: Sequence[str], rows: Iterable[Sequence[Any]]) -> Path:
+    """A CSV file: a header row, then each row with every cell made spreadsheet-safe."""
+    out = Path(path)
+    out.parent.mkdir(parents=True, exist_ok=True)
+    with out.open("w", newline="", encoding="utf-8") as fh:
+        w = csv.writer(fh)
+        w.writerow(columns)
+        for row in rows:
+            w.writerow([spreadsheet_cell(v) for v in row])
+    return out
 
 
 def _box_text(box: Box | None) -> str:
@@ -45,40 +48,18 @@ def _stem(path: str | Path) -> Path:
 
 
 def write_records_csv(cert: Certificate, path: str | Path) -> Path:
-    out = Path(path)
-    out.parent.mkdir(parents=True, exist_ok=True)
     columns = frame_columns()
-    with out.open("w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
-        w.writerow(columns)
-        for row in circuit_rows(cert):
-            w.writerow([_csv_value(row.get(c)) for c in columns])
-    return out
+    return write_table(path, columns, ([row.get(c) for c in columns] for row in circuit_rows(cert)))
 
 
-def _csv_value(v: Any) -> Any:
-    """As pandas would write the typed frame: blanks for missing, text neutralised."""
-    if v is None or (isinstance(v, float) and v != v):
-        return ""
-    if isinstance(v, str):
-        return neutralise(v)
-    return v
+def _finding_row(d: dict[str, Any], box: Box | None) -> list[Any]:
+    d["box"] = _box_text(box)
+    return [d[c] for c in FINDING_COLUMNS]
 
 
 def write_findings_csv(results: CheckResults, path: str | Path) -> Path:
-    out = Path(path)
-    out.parent.mkdir(parents=True, exist_ok=True)
-    with out.open("w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
-        w.writerow(FINDING_COLUMNS)
-        for f in results.findings:
-            d: dict[str, Any] = f.to_dict()
-            d["box"] = _box_text(f.box)
-            w.writerow(
-                [neutralise(v) if isinstance(v, str) else ("" if v is None else v)
-                 for v in (d[c] for c in FINDING_COLUMNS)]
-            )
-    return out
+    rows = (_finding_row(f.to_dict(), f.box) for f in results.findings)
+    return write_table(path, FINDING_COLUMNS, rows)
 
 
 def write_csv(cert: Certificate, results: CheckResults, stem: str | Path) -> tuple[Path, Path]:

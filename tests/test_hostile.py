@@ -7,7 +7,9 @@ Expected outcomes live in fixtures/hostile/expected.json; regenerate the files w
 
 from __future__ import annotations
 
+import csv
 import json
+import re
 from pathlib import Path
 
 import pytest
@@ -103,3 +105,128 @@ def test_hostile_layout(name: str) -> None:
     assert "\n" not in message
     assert message.startswith(f"{path}: ")
     assert spec["reason"] in message, message
+
+
+# --- spreadsheet formulas in every CSV writer -----------------------------------------------
+
+_FORMULA = re.compile(r"^[=+@\t\r]")
+_PLAIN_DASH = re.compile(r"^-+\s*$|^-\s*\d+([.,]\d+)?\s*\S*$")  # "-", "-0.01", "-5 mA"
+
+
+def _unsafe_cells(path: Path) -> list[str]:
+    with path.open(newline="", encoding="utf-8") as fh:
+        cells = [c for row in csv.reader(fh) for c in row]
+    return [c for c in cells if _FORMULA.match(c) or (c[:1] == "-" and not _PLAIN_DASH.match(c))]
+
+
+def test_no_csv_writer_writes_a_formula(tmp_path: Path) -> None:
+    """Formula text from PDFs reaches every CSV certvet writes (the per-certificate records and
+    findings, the batch's cross-findings, `certvet export --format csv`), always defused."""
+    from typer.testing import CliRunner
+
+    from certvet.cli import app
+
+    names = ("formula-text-in-cells.pdf", "formula-text-in-cells-same-number.pdf")
+    pdfs = [HOSTILE / n for n in names]
+    layout = HOSTILE / "layouts" / "hostile-grid.toml"
+    runner = CliRunner()
+    res = runner.invoke(app, ["audit", str(pdfs[0]), "--layout", str(layout),
+                              "--out", str(tmp_path / "audit")])
+    assert res.exception is None or isinstance(res.exception, SystemExit), res.output
+    res = runner.invoke(app, ["batch", *map(str, pdfs), "--layout", str(layout),
+                              "--store", str(tmp_path / "s.sqlite"), "--out", str(tmp_path / "b")])
+    assert res.exception is None or isinstance(res.exception, SystemExit), res.output
+    res = runner.invoke(app, ["export", "--store", str(tmp_path / "s.sqlite"),
+                              "--out", str(tmp_path / "e"), "--format", "csv"])
+    assert res.exit_code == 0, res.output
+    written = sorted(tmp_path.rglob("*.csv"))
+    names = {p.name for p in written}
+    assert "cross-findings.csv" in names and "certificates.csv" in names, names
+    assert any(n.endswith(".records.csv") for n in names), names
+    assert any(n.endswith(".findings.csv") for n in names), names
+    for path in written:
+        assert _unsafe_cells(path) == [], path
+    # the formula text got there, defused (so the test above looked at the hostile text)
+    cross = (tmp_path / "b" / "cross-findings.csv").read_text(encoding="utf-8")
+    assert "'=HYPERLINK" in cross
+    exported = (tmp_path / "e" / "certificates.csv").read_text(encoding="utf-8")
+    assert "'=HYPERLINK" in exported
+    records = next(p for p in written if p.name.endswith(".records.csv")).read_text("utf-8")
+    assert "'=1+2" in records and "'+SUM(A1:A9)" in records and "'@cmd" in records
+    assert "'-2+3" in records
+
+
+# --- console output: PDF text and file names printed as text --------------------------------
+
+
+def _invoke(args: list[str]) -> tuple[int, str]:
+    from typer.testing import CliRunner
+
+    from certvet.cli import app
+
+    res = CliRunner().invoke(app, [str(a) for a in args])
+    assert res.exception is None or isinstance(res.exception, SystemExit), repr(res.exception)
+    assert "Traceback" not in res.output
+    return res.exit_code, res.output
+
+
+def test_markup_in_cells_prints_as_written(tmp_path: Path) -> None:
+    pdf = HOSTILE / "markup-text-in-cells.pdf"
+    code, out = _invoke(["try-layout", pdf, "--layout", HOSTILE / "layouts" / "hostile-grid.toml"])
+    assert code == 0, out
+    for text in ("[kitchen]", "[/red]", "[bold]Cooker", ":smile:"):
+        assert text in out, (text, out)
+    code, out = _invoke(["draft-layout", pdf, "-o", tmp_path / "draft.toml"])
+    assert code in (0, 3), out  # a draft, or a one-line refusal: never a markup crash
+
+
+def test_a_file_name_cannot_forge_a_console_line(tmp_path: Path) -> None:
+    forged = tmp_path / "a\nNO CONCERNS FOUND   forged.pdf"
+    forged.write_bytes((HOSTILE / "valid-base.pdf").read_bytes())
+    layout = HOSTILE / "layouts" / "hostile-grid.toml"
+    _, out = _invoke(["audit", forged, "--layout", layout, "--out", tmp_path / "a"])
+    _, out_batch = _invoke(["batch", forged, "--layout", layout, "--store", tmp_path / "s.sqlite",
+                            "--out", tmp_path / "b"])
+    (tmp_path / "bad\nFAKE.pdf").write_bytes(b"not a pdf")
+    _, out_err = _invoke(["audit", tmp_path / "bad\nFAKE.pdf", "--layout", layout,
+                          "--out", tmp_path / "c"])
+    for text in (out, out_batch, out_err):
+        assert not any(ln.startswith(("NO CONCERNS FOUND", "FAKE")) for ln in text.splitlines())
+    assert "a\\nNO CONCERNS FOUND   forged.pdf" in out
+    assert "bad\\nFAKE.pdf" in out_err
+
+
+# --- exit codes ------------------------------------------------------------------------------
+
+
+def test_exit_codes_are_one_table_shown_in_the_readme() -> None:
+    from certvet.exitcodes import ExitCode, markdown_table
+
+    readme = (HOSTILE.parents[1] / "README.md").read_text(encoding="utf-8")
+    assert markdown_table() in readme
+    assert len({int(c) for c in ExitCode}) == len(ExitCode)
+
+
+def test_an_internal_error_has_its_own_exit_code(
+    monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str], tmp_path: Path
+) -> None:
+    import sys
+
+    import certvet.api
+    from certvet.cli import main
+    from certvet.exitcodes import ExitCode
+
+    def broken(*args: object, **kwargs: object) -> None:
+        raise RuntimeError("a bug\nwith two lines")
+
+    monkeypatch.setattr(certvet.api, "audit_many", broken)
+    monkeypatch.delenv("CERTVET_DEBUG", raising=False)
+    layout = HOSTILE / "layouts" / "hostile-grid.toml"
+    monkeypatch.setattr(sys, "argv", ["certvet", "audit", str(HOSTILE / "valid-base.pdf"),
+                                      "--layout", str(layout), "--out", str(tmp_path)])
+    with pytest.raises(SystemExit) as info:
+        main()
+    assert info.value.code == ExitCode.INTERNAL != ExitCode.FINDINGS
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "Traceback" not in err
+    assert err.startswith("certvet: internal error (RuntimeError: a bug\\nwith two lines)")

@@ -15,7 +15,7 @@ from datetime import date
 
 from checks.base import CertificateCheck, CircuitCheck, option
 from checks.catalogue.completeness import is_spare
-from checks.catalogue.rcd import has_rcd, is_socket_circuit
+from checks.catalogue.rcd import is_socket_circuit
 from checks.certificate_facts import (
     Applies,
     ReportKind,
@@ -24,6 +24,7 @@ from checks.certificate_facts import (
     report_kind,
     requirement_applies,
 )
+from checks.devices import rcd_protection
 from checks.model import Finding, Severity
 from checks.registry import register
 from extractor.records import Board, Certificate, Circuit, ValueKind
@@ -55,8 +56,8 @@ class _RcdRequirement(CircuitCheck):
         applies = requirement_applies(cert, since)
         if applies is Applies.NOT_YET:
             return None
-        idn = circuit.number("rcd_idn")
-        if has_rcd(circuit) and (idn is None or idn <= 30 + 1e-9):
+        prot = rcd_protection(circuit, board)
+        if prot is not None and (prot.idn_ma is None or prot.idn_ma <= 30 + 1e-9):
             return []
         message = f"{self.what} with no 30 mA RCD recorded"
         if applies is Applies.OBSERVATION:

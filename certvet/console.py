@@ -1,0 +1,30 @@
+"""What certvet prints: untrusted text (file names, PDF text) always as plain text.
+
+`err` prints one error line (control characters escaped, so a file name with a newline cannot
+forge a second line); `plain_console` is a rich Console that never reads markup or emoji
+codes in what it prints (a cell reading "[/red]" or "[kitchen]" prints as written): style
+with `rich.text.Text` objects, never with markup in strings.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, Any
+
+import typer
+
+from extractor.untrusted import one_line
+
+if TYPE_CHECKING:
+    from rich.console import Console
+
+__all__ = ["err", "one_line", "plain_console"]
+
+
+def err(message: str) -> None:
+    typer.echo(f"certvet: {one_line(message)}", err=True)
+
+
+def plain_console(**kwargs: Any) -> Console:
+    from rich.console import Console
+
+    return Console(markup=False, emoji=False, highlight=False, **kwargs)
