@@ -94,7 +94,11 @@ def test_real_process_smoke(tmp_path: Path) -> None:
     n = len(list(DEMO.glob("*.pdf")))
     assert f"{n} file(s): {n} audited, 0 skipped, 0 failed" in out.stdout
     assert "schedule-copied-from-other-address" in out.stdout
-    assert len(list((tmp_path / "certificates").glob("*.html"))) == n
+    reports = [p for p in (tmp_path / "certificates").glob("*.html")
+               if not p.name.endswith((".summary.html", ".queries.html"))]
+    assert len(reports) == n
+    assert len(list((tmp_path / "certificates").glob("*.summary.html"))) == n  # landlord's
+    assert len(list((tmp_path / "certificates").glob("*.queries.html"))) == n  # contractor's
     assert (tmp_path / "portfolio.html").exists()
     again = subprocess.run([str(exe), "demo", "--out", str(tmp_path)], capture_output=True,
                            text=True, env=env, timeout=600)

@@ -29,10 +29,12 @@ from reports.model import OtherCertificate, PairedValue, RelatedFinding
 REPO = Path(__file__).resolve().parents[1]
 CLEAN, COPIED, FAULTY = "grid-clean-01", "grid-copied-07", "grid-faulty-03"
 COPIED_CHECK = "schedule-copied-from-other-address"
+READER_SUFFIXES = (".summary.html", ".queries.html")  # the two other readers' outputs
 
 
 def _html(out: Path, stem: str) -> Path:
-    (path,) = (out / "certificates").glob(f"{stem}-*.html")
+    (path,) = [p for p in (out / "certificates").glob(f"{stem}-*.html")
+               if not p.name.endswith(READER_SUFFIXES)]
     return path
 
 
