@@ -10,13 +10,22 @@ import os
 import sys
 from enum import StrEnum
 from pathlib import Path
-from typing import TYPE_CHECKING, Annotated, Optional
+from typing import TYPE_CHECKING, Annotated, Any, Optional
 
 import typer
 
 from certvet.console import err as _err
+from certvet.console import make_out_dir as _make_out_dir
 from certvet.console import one_line
-from certvet.exitcodes import EXIT_CLEAN, EXIT_FAILED, EXIT_FINDINGS, EXIT_INTERNAL, EXIT_USAGE
+from certvet.exitcodes import (
+    DEFAULT_FAIL_ON,
+    EXIT_CLEAN,
+    EXIT_FAILED,
+    EXIT_FINDINGS,
+    EXIT_INTERNAL,
+    EXIT_USAGE,
+    parse_fail_on,
+)
 
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from certvet.api import AuditResult
@@ -40,17 +49,6 @@ class EngineChoice(StrEnum):
     pdfium = "pdfium"
     pdfplumber = "pdfplumber"
     lattice = "lattice"
-
-
-def _make_out_dir(out: Path) -> None:
-    """Create the reports folder up front: one line and exit 3 when it cannot be made."""
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        why = "a file of that name is in the way" if isinstance(exc, FileExistsError) else (
-            exc.strerror or str(exc))
-        _err(f"{out}: cannot create the reports folder: {why}")
-        raise typer.Exit(EXIT_FAILED) from None
 
 
 def _load_inputs(
@@ -89,6 +87,7 @@ def _run_batch(
     engine: str | None,
     password: str | None,
     quiet: bool,
+    fail_on: frozenset[Any],
 ) -> int:
     from certvet.api import audit_many
 
@@ -142,7 +141,8 @@ def _run_batch(
             password=password,
             on_done=done,
         )
-    breach = any(r.has_breach for r in summary.audited)
+    breach = any(f.severity in fail_on and not f.preview
+                 for r in summary.audited for f in r.results.findings)
     if not quiet:
         typer.echo(
             f"\n{summary.total} file(s): {len(summary.audited)} audited, "
@@ -190,6 +190,11 @@ def audit(
         typer.Option("--password", help="Password for encrypted PDFs."),
     ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing but errors.")] = False,
+    fail_on: Annotated[
+        str, typer.Option("--fail-on", metavar="SEVERITIES",
+                          help="Severities that make the exit status 1, comma-separated "
+                               "(note, query, breach, impossible).")
+    ] = DEFAULT_FAIL_ON,
     audit_date: AuditDateOption = None,
 ) -> None:
     """Audit certificates: extract the schedule, run every check, write HTML/JSON/CSV reports."""
@@ -198,13 +203,19 @@ def audit(
     if not layout:
         _err("give at least one --layout (a layout file or a folder of them)")
         raise typer.Exit(EXIT_USAGE)
+    try:
+        severities = parse_fail_on(fail_on)
+    except ValueError as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_USAGE) from None
     layouts, prof = _load_inputs(layout, profile, audit_date)
     files = expand_inputs(pdfs)
     if not files:
         _err(f"{', '.join(str(p) for p in pdfs)}: no PDF files found")
         raise typer.Exit(EXIT_FAILED)
     _make_out_dir(out)
-    code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet)
+    code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet,
+                      severities)
     raise typer.Exit(code)
 
 
@@ -227,7 +238,7 @@ def demo(
         batch(
             [DEMO_DIR], layout=[DEMO_LAYOUTS], store=out / "corpus.sqlite", out=out,
             workers=None, timeout=120.0, memory_mb=2048, retry_failed=False, scheduler=None,
-            profile=None, password=None, quiet=False,
+            profile=None, password=None, quiet=False, fail_on=DEFAULT_FAIL_ON,
         )
     except typer.Exit as done:
         code = done.exit_code

@@ -4,6 +4,7 @@ or disabled, and every finding lands in one list."""
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 from datetime import date
 
@@ -23,6 +24,12 @@ class CheckResults:
         counted = [f.severity for f in self.findings if not f.preview]
         return max(counted) if counted else None
 
+    def with_findings(self, extra: Iterable[Finding]) -> CheckResults:
+        """These results with more findings (a certificate's cross-certificate findings)."""
+        more = list(extra)
+        return self if not more else CheckResults(self.profile, self.runs,
+                                                  [*self.findings, *more])
+
     def count(self, severity: Severity) -> int:
         return sum(1 for f in self.findings if f.severity is severity and not f.preview)
 
@@ -36,6 +43,8 @@ def run_checks(
     audit_date = audit_date or profile.audit_date
     results = CheckResults(profile)
     for cls in all_checks():
+        if cls.scope == "corpus":
+            continue  # across certificates: run by the corpus stage (corpus/crosscheck.py)
         settings = profile.settings(cls.id)
         check = profile.instantiate(cls)
         options = dataclasses.asdict(check.options)

@@ -435,6 +435,7 @@ def build_report(
     related: Sequence[RelatedFinding] = (),
 ) -> ReportView:
     profile = profile or results.profile
+    counted = results.with_findings(rf.finding for rf in related)  # verdict and counts
     runs = {r.check_id: r for r in results.runs}
     groups, by_index = _finding_views(results.findings, runs)
     pairs = [(f, by_index[i]) for i, f in enumerate(results.findings)]
@@ -483,9 +484,9 @@ def build_report(
         subtitle=cert.text("address"),
         certvet_version=certvet_version,
         generated_at=generated_at,
-        verdict=decide(cert, results),
-        counts=[SeverityCount(s.slug, s.label, results.count(s)) for s in SEVERITIES_WORST_FIRST],
-        preview_count=sum(1 for f in results.findings if f.preview),
+        verdict=decide(cert, counted),
+        counts=[SeverityCount(s.slug, s.label, counted.count(s)) for s in SEVERITIES_WORST_FIRST],
+        preview_count=sum(1 for f in counted.findings if f.preview),
         details=details,
         source=SourceView(cert.source, cert.sha256, cert.layout, cert.engine, cert.page_count),
         finding_groups=groups,
@@ -505,18 +506,6 @@ def build_report(
 
 RELATION_LABELS: dict[str, str] = {"equal": "equal", "near": "±1 in the last digit",
                                    "different": "different"}
-# titles of the cross-certificate checks (corpus.crosscheck; not in the catalogue)
-CROSS_CHECK_TITLES: dict[str, str] = {
-    "schedule-copied-from-other-address": "Readings match a certificate for another address",
-    "schedule-repeats-earlier-at-address": "Readings repeat an earlier certificate here",
-    "certificate-number-reused": "Certificate number used on another certificate",
-    "inspector-workload-implausible": "More circuits in a day than one inspector can test",
-    "instrument-workload-implausible": "More circuits in a day than one instrument can test",
-}
-READINGS_MATCH_CHECKS = frozenset({"schedule-copied-from-other-address",
-                                   "schedule-repeats-earlier-at-address"})
-
-
 @dataclass(frozen=True)
 class OtherCertificate:
     """A certificate a cross-certificate finding points at."""
@@ -625,7 +614,7 @@ def _related_views(related: Sequence[RelatedFinding]) -> list[RelatedView]:
                    if rf.readings else "")
         views.append(RelatedView(
             number=number, check_id=f.check_id,
-            check_title=CROSS_CHECK_TITLES.get(f.check_id) or _check_title(f.check_id, {}),
+            check_title=_check_title(f.check_id, {}),
             severity=f.severity.slug, severity_label=f.severity.label, location=_location(f),
             message=f.message, recorded=f.recorded or "", reference=f.reference,
             others=rf.others, fields=fields, rows=rows, summary=summary,
@@ -637,16 +626,7 @@ def _related_note(related: Sequence[RelatedFinding]) -> str:
     """One sentence for the verdict box; "" when there is nothing to say."""
     if not related:
         return ""
-    copies = sorted({o.name for rf in related if rf.finding.check_id in READINGS_MATCH_CHECKS
-                     for o in rf.others})
-    rest = sum(1 for rf in related if rf.finding.check_id not in READINGS_MATCH_CHECKS)
-    parts = []
-    if copies:
-        parts.append("Readings on this certificate match those of "
-                     + ("certificate " if len(copies) == 1 else "certificates ")
-                     + ", ".join(copies) + ": ask how they were measured.")
-    if rest:
-        parts.append(f"The comparison with other certificates raised {rest} more "
-                     f"quer{'y' if rest == 1 else 'ies'}.")
-    return " ".join(parts) + (" See \u201cCompared with other certificates\u201d below; these "
-                              "queries do not change the outcome above.")
+    n = len(related)
+    return (f"The comparison with other certificates raised {n} finding{'s' if n != 1 else ''}, "
+            "counted in the outcome above: see \u201cCompared with other certificates\u201d "
+            "below.")

@@ -35,6 +35,7 @@ from pathlib import Path
 from jinja2 import Environment, FileSystemLoader, StrictUndefined
 from markupsafe import Markup
 
+from checks.catalogue.across import ScheduleCopiedFromOtherAddress
 from reports import charts
 
 TEMPLATES = Path(__file__).parent / "templates"
@@ -49,7 +50,7 @@ CROSS_POINTS = {
     "inspector-workload-implausible": 6.0,
     "instrument-workload-implausible": 6.0,
 }
-COPIED = "schedule-copied-from-other-address"
+COPIED = ScheduleCopiedFromOtherAddress.id
 INCOMPLETE_POINTS = 2.0
 SHOW_PAIR_ROWS = 30  # aligned circuits shown per pair before "and N more"
 FIELD_ORDER = ("r1", "rn", "r2", "r1_r2", "r1_rn", "r2_only", "ir_live_live", "ir_live_earth",

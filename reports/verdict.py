@@ -11,12 +11,14 @@ from __future__ import annotations
 from dataclasses import dataclass
 from enum import StrEnum
 
+from checks.catalogue.across import READINGS_MATCH_CHECKS
 from checks.model import Severity
 from checks.runner import CheckResults
 from extractor.records import Certificate, ValueKind
 
 
 class VerdictKey(StrEnum):
+    READINGS_COPIED = "readings_copied"
     NOT_CREDIBLE = "not_credible"
     FAILS_REQUIREMENTS = "fails_requirements"
     QUERIES = "queries"
@@ -32,6 +34,14 @@ class VerdictWording:
 
 
 WORDING: dict[VerdictKey, VerdictWording] = {
+    VerdictKey.READINGS_COPIED: VerdictWording(
+        "readings copied",
+        "The readings on this certificate match those of another certificate, named below. "
+        "Independent tests do not give the same readings twice, so at most one of the two "
+        "records measurements of its own installation. Rely on neither until the contractor "
+        "has shown how the readings were taken.",
+        "impossible",
+    ),
     VerdictKey.NOT_CREDIBLE: VerdictWording(
         "results not credible",
         "At least one recorded result is physically impossible or shows an immediate danger. "
@@ -78,6 +88,7 @@ class Verdict:
     explanation: str
     tone: str
     incomplete_reasons: tuple[str, ...] = ()  # why the audit could not cover everything
+    copies: tuple[str, ...] = ()  # the readings-match findings: the other certificate named
 
     @property
     def label(self) -> str:
@@ -95,6 +106,7 @@ class Verdict:
             "explanation": self.explanation,
             "complete": self.complete,
             "incomplete_reasons": list(self.incomplete_reasons),
+            "copies": list(self.copies),
         }
 
 
@@ -124,14 +136,18 @@ def decide(cert: Certificate, results: CheckResults) -> Verdict:
     """The verdict for one audited certificate."""
     reasons = incomplete_reasons(cert)
     worst = results.worst()
-    if worst is not None and worst in _BY_SEVERITY:
+    copied = [f for f in results.findings if f.check_id in READINGS_MATCH_CHECKS and not f.preview]
+    if copied and max(f.severity for f in copied) == worst:
+        key = VerdictKey.READINGS_COPIED  # the copy is the worst: it is the verdict
+    elif worst is not None and worst in _BY_SEVERITY:
         key = _BY_SEVERITY[worst]
     elif reasons:
         key = VerdictKey.INCOMPLETE
     else:
         key = VerdictKey.NO_CONCERNS
     w = WORDING[key]
-    return Verdict(key, w.headline, w.explanation, w.tone, reasons)
+    return Verdict(key, w.headline, w.explanation, w.tone, reasons,
+                   tuple(f.message for f in copied))
 
 
 verdict_for = decide  # the name certvet.api uses

@@ -25,7 +25,7 @@ def test_clean_certificate_exits_0(tmp_path: Path) -> None:
     assert "NO CONCERNS FOUND" in res.output
     assert (tmp_path / "grid-clean-01.html").exists()
     data = json.loads((tmp_path / "grid-clean-01.json").read_text())
-    assert data["format_version"] == 3
+    assert data["format_version"] == 4
 
 
 def test_breach_exits_1(tmp_path: Path) -> None:

@@ -300,7 +300,7 @@ def test_json_round_trips(tmp_path: Path) -> None:
     path = write_json(cert, res, tmp_path / "r.json", certvet_version="9.9.9",
                       generated_at="fixed")
     data = json.loads(path.read_text(encoding="utf-8"))
-    assert data["format_version"] == FORMAT_VERSION == 3
+    assert data["format_version"] == FORMAT_VERSION == 4
     assert data["related"] == []  # filled in by batch runs only
     assert list(data)[0] == "format_version"
     assert data == report_dict(cert, res, certvet_version="9.9.9", generated_at="fixed")
@@ -316,7 +316,7 @@ def test_json_round_trips(tmp_path: Path) -> None:
 
 def test_json_rejects_unknown_format_version() -> None:
     data = report_dict(certificate(), results(), certvet_version="1", generated_at="x")
-    data["format_version"] = 99
+    data["format_version"] = FORMAT_VERSION + 1
     with pytest.raises(ValueError, match="format_version"):
         certificate_from_json(data)
 
