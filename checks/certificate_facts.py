@@ -280,11 +280,24 @@ def summary_counts(cert: Certificate) -> dict[str, int] | None:
     return counts or None
 
 
+_CODE_RE = re.compile(
+    r"\b(C1|C2|C3|FI)\b(?:\s*(?:[:=x×\-–—]|\bX\b)?\s*(\d+|NIL|NONE|NO)\b)?")
+
+
+def observation_codes(text: str) -> dict[str, int]:
+    """Codes and counts from text like "C2, C3", "C1: 0 C2: 2 C3: 1", "C2 x2, FI" or a
+    summary "C1 - 0, C2 - 0, C3 - 2" (a count after a dash is a count, not a code listed)."""
+    counts: dict[str, int] = {}
+    for m in _CODE_RE.finditer(text.upper()):
+        got = m.group(2)
+        n = (int(got) if got.isdigit() else 0) if got is not None else 1
+        counts[m.group(1)] = counts.get(m.group(1), 0) + n
+    return counts
+
+
 def recorded_codes(cert: Certificate) -> dict[str, int]:
     """How many of each code the report records: the summary table when printed, else the
     listed observations, else the observation-codes field."""
-    from checks.catalogue.completeness import observation_codes
-
     counts = summary_counts(cert)
     if counts is not None:
         return counts
