@@ -62,6 +62,7 @@ from checks.profile import DEFAULT_PROFILE, Profile
 from extractor.errors import InputError
 from extractor.layout import Layout
 from extractor.untrusted import one_line
+from reports.verdict import NOT_AUDITED
 
 if TYPE_CHECKING:
     from certvet.api import AuditResult
@@ -109,7 +110,7 @@ class FileOutcome:
                             f"findings, layout {self.layout})")
         if self.status is Status.SKIPPED:
             return one_line(f"{'SKIPPED':<22} {self.reason}")
-        return one_line(f"{'FAILED':<22} {self.reason}")
+        return one_line(f"{NOT_AUDITED.upper():<22} {self.reason}")
 
     def verdict_line(self) -> str:
         """The line of a certificate whose verdict the comparison with other certificates
@@ -312,7 +313,7 @@ def run_batch(
             row = stored.get(sha)
             if row is not None and not (retry_failed and row.status == "failed"):
                 failed_before = row.status == "failed"
-                what = (f"failed before ({_reason_only(row.failure_reason)}); "
+                what = (f"{NOT_AUDITED} before ({_reason_only(row.failure_reason)}); "
                         "--retry-failed runs it again" if failed_before
                         else f"already audited ({row.audited_at}, layout {row.layout})")
                 emit(FileOutcome(path, Status.SKIPPED, sha, reason=_one_line(f"{path}: {what}"),

@@ -90,6 +90,7 @@ def _run_batch(
     fail_on: frozenset[Any],
 ) -> int:
     from certvet.api import audit_many
+    from reports.verdict import NOT_AUDITED
 
     show_bar = len(pdfs) > 3 and not quiet and sys.stderr.isatty()
     lines: list[str] = []
@@ -98,7 +99,7 @@ def _run_batch(
         if error and quiet:
             _err(error)  # --quiet prints nothing but errors
         if error:
-            lines.append(f"{'FAILED':<22} {one_line(error)}")
+            lines.append(f"{NOT_AUDITED.upper():<22} {one_line(error)}")
         else:
             assert result is not None  # audit_many gives a result or an error
             v = result.verdict
@@ -146,10 +147,10 @@ def _run_batch(
     if not quiet:
         typer.echo(
             f"\n{summary.total} file(s): {len(summary.audited)} audited, "
-            f"{len(summary.failed)} failed; reports in {out_dir}"
+            f"{len(summary.failed)} {NOT_AUDITED}; reports in {out_dir}"
         )
         for f in summary.failed:
-            typer.echo(f"  failed: {one_line(f.reason)}")
+            typer.echo(f"  {NOT_AUDITED}: {one_line(f.reason)}")
         typer.echo(
             "A desk check cannot show an installation is safe; "
             "defer to BS 7671 and licensed practice."

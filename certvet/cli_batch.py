@@ -88,6 +88,7 @@ def batch(
         raise typer.Exit(EXIT_USAGE) from None
 
     from certvet.api import expand_inputs
+    from reports.verdict import NOT_AUDITED
 
     if not expand_inputs(inputs):
         _err(f"{', '.join(str(p) for p in inputs)}: no PDF files found")
@@ -116,7 +117,7 @@ def batch(
         progress = Progress(TextColumn("auditing"), BarColumn(), MofNCompleteColumn(),
                             TextColumn("[green]{task.fields[audited]} audited[/] · "
                                        "{task.fields[skipped]} skipped · "
-                                       "[red]{task.fields[failed]} failed[/]"),
+                                       "[red]{task.fields[failed]} " + NOT_AUDITED + "[/]"),
                             TimeElapsedColumn(), TimeRemainingColumn(), transient=True)
         progress.start()
         task = progress.add_task("batch", total=total, audited=0, skipped=0, failed=0)
@@ -161,10 +162,11 @@ def batch(
             for o in report.decided_again:
                 typer.echo(o.verdict_line())
     typer.echo(f"\n{len(report.outcomes)} file(s): {t['audited']} audited, {t['skipped']} "
-               f"skipped, {t['failed']} failed; {len(report.cross_findings)} cross-certificate "
+               f"skipped, {t['failed']} {NOT_AUDITED}; {len(report.cross_findings)} "
+               "cross-certificate "
                f"finding(s); store {store}; portfolio {report.portfolio}")
     for o in report.failed:
-        typer.echo(f"  failed: {one_line(o.reason or '')}")
+        typer.echo(f"  {NOT_AUDITED}: {one_line(o.reason or '')}")
     for line in report.output_errors:
         _err(line)
     typer.echo("A desk check cannot show an installation is safe; "

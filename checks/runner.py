@@ -49,17 +49,17 @@ def run_checks(
         check = profile.instantiate(cls)
         options = dataclasses.asdict(check.options)
         if not settings.enabled:
-            results.runs.append(CheckRun(cls.id, cls.title, Outcome.DISABLED, 0, 0, options))
+            results.runs.append(CheckRun(cls.id, cls.title, Outcome.TURNED_OFF, 0, 0, options))
             continue
         check.audit_date = audit_date
         applied, found = check.run(cert)
         if found:
-            outcome = Outcome.FAILED
+            outcome = Outcome.FOUND
         elif applied:
-            outcome = Outcome.PASSED
+            outcome = Outcome.RAISED_NOTHING
         else:
-            outcome = Outcome.NOT_APPLICABLE
-        reason = check.not_applicable_reason if outcome is Outcome.NOT_APPLICABLE else None
+            outcome = Outcome.DID_NOT_APPLY
+        reason = check.not_applicable_reason if outcome is Outcome.DID_NOT_APPLY else None
         results.runs.append(
             CheckRun(cls.id, cls.title, outcome, applied, len(found), options, reason)
         )

@@ -20,8 +20,13 @@ Format history:
   ``readings_copied`` (reports/verdict.py) is new, and ``verdict.copies`` lists the messages
   of the readings-match findings (each naming the other certificate and the likely source).
   Versions 1 and 2 are still read.
-* 4 — each ``check_runs`` entry adds ``reason``: why the check did not apply, when it
-  says (null otherwise). Versions 1 to 3 are still read.
+* 4 — check outcomes say what was found: ``check_runs[].outcome`` is ``raised_nothing``,
+  ``found``, ``did_not_apply`` or ``turned_off`` (were ``passed``, ``failed``,
+  ``not_applicable``, ``disabled``), with ``outcome_label`` as printed ("found 3"); adds
+  ``cautions`` (after ``verdict``): the cautions every report carries (a desk check cannot show
+  an installation is safe…). Versions 1 to 3 are still read.
+* 5 — each ``check_runs`` entry adds ``reason``: why the check did not apply, when it
+  says (null otherwise). Versions 1 to 4 are still read.
 
 ``certificate_from_json`` rebuilds the ``Certificate`` from a document, so checks can be
 re-run on a saved report without the PDF.
@@ -48,11 +53,11 @@ from extractor.records import (
     Value,
     ValueKind,
 )
-from reports.model import RelatedFinding
+from reports.model import CAUTIONS, RelatedFinding
 from reports.verdict import decide
 
-FORMAT_VERSION = 4
-READABLE_VERSIONS = (1, 2, 3, 4)
+FORMAT_VERSION = 5
+READABLE_VERSIONS = (1, 2, 3, 4, 5)
 
 
 def _box(box: Box | None) -> dict[str, Any] | None:
@@ -81,6 +86,7 @@ def report_dict(
         "certvet_version": certvet_version,
         "generated_at": generated_at,
         "verdict": decide(cert, counted).to_dict(),
+        "cautions": list(CAUTIONS),
         "counts": {s.slug: counted.count(s) for s in sorted(Severity, reverse=True)},
         "certificate": {
             "name": cert.name,
@@ -120,6 +126,7 @@ def report_dict(
                 "check_id": r.check_id,
                 "title": r.title,
                 "outcome": r.outcome.value,
+                "outcome_label": r.outcome.describe(r.findings),
                 "applied_to": r.applied_to,
                 "findings": r.findings,
                 "options": r.options,

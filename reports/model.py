@@ -27,14 +27,40 @@ CAUTIONS: tuple[str, ...] = (
     "competent to do so.",
 )
 
-OUTCOME_LABELS: dict[Outcome, str] = {
-    Outcome.PASSED: "passed",
-    Outcome.FAILED: "failed",
-    Outcome.NOT_APPLICABLE: "not applicable",
-    Outcome.DISABLED: "disabled",
-}
-
 SEVERITIES_WORST_FIRST: tuple[Severity, ...] = tuple(sorted(Severity, reverse=True))
+
+SEVERITY_LEGEND_NOTE = (
+    "Severities are certvet's own scale for what this desk check found in the recorded "
+    "figures. They are not the certificate's classification codes (C1, C2, C3, FI), which are "
+    "shown as plain text, exactly as printed."
+)
+
+
+@dataclass(frozen=True)
+class SeverityKey:
+    """One entry of the severity legend."""
+
+    slug: str
+    mark: str
+    label: str
+    meaning: str
+    outline: str  # how a questioned cell of the schedule is outlined (the template's CSS)
+
+
+_OUTLINES = {Severity.IMPOSSIBLE: "double", Severity.BREACH: "solid", Severity.QUERY: "dashed",
+             Severity.NOTE: "dotted"}
+SEVERITY_LEGEND: tuple[SeverityKey, ...] = tuple(
+    SeverityKey(s.slug, s.mark, s.label, s.meaning, _OUTLINES[s]) for s in SEVERITIES_WORST_FIRST
+)
+
+
+def severity_css() -> str:
+    """CSS that puts each severity's mark before its badge (and a questioned cell's tag), so a
+    severity is told by its shape and label, never by colour alone. Marks: ``Severity.mark``."""
+    return "\n".join(
+        f'.sev.sev-{k.slug}::before, .sev-{k.slug} > .tag::before {{ content: "{k.mark}\\a0"; }}'
+        for k in SEVERITY_LEGEND
+    )
 
 # Certificate-level details shown in the header, in order.
 HEADER_FIELDS: tuple[str, ...] = (
@@ -404,7 +430,7 @@ def _runs(results: CheckResults, profile: Profile) -> list[CheckRunView]:
                 check_id=run.check_id,
                 title=run.title,
                 outcome=run.outcome.value,
-                outcome_label=OUTCOME_LABELS[run.outcome],
+                outcome_label=run.outcome.describe(run.findings),
                 applied_to=run.applied_to,
                 findings=run.findings,
                 severity=sev.label if sev is not None else "",
@@ -418,8 +444,13 @@ def _runs(results: CheckResults, profile: Profile) -> list[CheckRunView]:
 
 def _run_summary(results: CheckResults, circuits: int) -> str:
     n = len(results.runs)
-    by = {o: sum(1 for r in results.runs if r.outcome is o) for o in Outcome}
-    parts = [f"{by[o]} {OUTCOME_LABELS[o]}" for o in Outcome if by[o]]
+    by = {o: [r for r in results.runs if r.outcome is o] for o in Outcome}
+    found = sum(r.findings for r in by[Outcome.FOUND])
+    parts = [
+        (f"{len(by[o])} {o.label} {found} finding{'s' if found != 1 else ''}"
+         if o is Outcome.FOUND else f"{len(by[o])} {o.label}")
+        for o in Outcome if by[o]
+    ]
     head = (f"{n} check{'s' if n != 1 else ''} run on {circuits} "
             f"circuit{'s' if circuits != 1 else ''}")
     return head + (": " + ", ".join(parts) if parts else "")

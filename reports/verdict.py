@@ -44,8 +44,10 @@ WORDING: dict[VerdictKey, VerdictWording] = {
     ),
     VerdictKey.NOT_CREDIBLE: VerdictWording(
         "results not credible",
-        "At least one recorded result is physically impossible or shows an immediate danger. "
-        "Do not rely on this certificate until the contractor has explained or re-tested it.",
+        "At least one set of recorded figures cannot all be right as written (for example "
+        "R1+R2 larger than the measured Zs): the record is wrong somewhere, which by itself "
+        "says nothing about danger. Do not rely on this certificate until the contractor has "
+        "explained or re-tested it.",
         "impossible",
     ),
     VerdictKey.FAILS_REQUIREMENTS: VerdictWording(
@@ -68,11 +70,16 @@ WORDING: dict[VerdictKey, VerdictWording] = {
     ),
     VerdictKey.NO_CONCERNS: VerdictWording(
         "no concerns found",
-        "The recorded results passed every check that applied. This is a check of the "
+        "Every check that applied raised nothing. This is a check of the "
         "paperwork only, not of the installation.",
         "clear",
     ),
 }
+
+# A file that could not be audited (unreadable, encrypted, no layout…), in every console line
+# and summary. Never "failed": a reader would take it for a check that found something (a
+# check's outcome is "found N", see checks.model.Outcome).
+NOT_AUDITED = "not audited"
 
 _BY_SEVERITY = {
     Severity.IMPOSSIBLE: VerdictKey.NOT_CREDIBLE,

@@ -138,7 +138,7 @@ def test_audit_date_parameter_and_profile_decide_the_age() -> None:
 
 def test_not_applicable_says_why() -> None:
     runs = {r.check_id: r for r in run_checks(make_certificate([])).runs}
-    assert runs["rcd-missing-domestic-lighting"].outcome.value == "not_applicable"
+    assert runs["rcd-missing-domestic-lighting"].outcome.value == "did_not_apply"
     assert runs["rcd-missing-domestic-lighting"].reason == (
         "the form does not say the premises are domestic")
     assert runs["rcd-missing-concealed-cables"].reason == (
