@@ -10,7 +10,7 @@ from datetime import UTC, datetime
 from functools import lru_cache
 from pathlib import Path
 
-from jinja2 import Environment, FileSystemLoader, StrictUndefined, Template
+from jinja2 import Environment, FileSystemLoader, StrictUndefined
 from markupsafe import Markup
 
 from checks.profile import Profile
@@ -52,11 +52,6 @@ def environment() -> Environment:
 def warm_up() -> None:
     """Compile the template now (e.g. before forking workers)."""
     environment().get_template("certificate.html.j2")
-
-
-def template(name: str) -> Template:
-    """A template of reports/templates from the one cached environment."""
-    return _environment().get_template(name)
 
 
 def render_view(view: ReportView) -> str:

@@ -192,20 +192,20 @@ def _now(generated_at: str | None) -> str:
 
 def render_summary(cert: Certificate, results: CheckResults, *, certvet_version: str,
                    generated_at: str | None = None) -> str:
-    from reports.html import template
+    from reports.html import environment
 
     view = build_summary(cert, results, certvet_version=certvet_version,
                          generated_at=_now(generated_at))
-    return template("summary.html.j2").render(r=view)
+    return environment().get_template("summary.html.j2").render(r=view)
 
 
 def render_query_sheet(cert: Certificate, results: CheckResults, *, certvet_version: str,
                        generated_at: str | None = None) -> str:
-    from reports.html import template
+    from reports.html import environment
 
     view = build_query_sheet(cert, results, certvet_version=certvet_version,
                              generated_at=_now(generated_at))
-    return template("queries.html.j2").render(r=view)
+    return environment().get_template("queries.html.j2").render(r=view)
 
 
 def _write(path: str | Path, text: str) -> Path:
