@@ -23,7 +23,7 @@ from reports.verdict import VerdictKey, decide
 
 # checks whose findings tell the reader about the certificate's dates rather than its readings
 DATE_CHECKS = ("certificate-out-of-date", "next-inspection-interval", "dates-out-of-order")
-OUTCOME_CHECKS = ("satisfactory-despite-failed-readings", "unsatisfactory-without-codes",
+OUTCOME_CHECKS = ("satisfactory-despite-failing-readings", "unsatisfactory-without-codes",
                   "outcome-contradicts-observations")
 
 _KIND_WORDS = {

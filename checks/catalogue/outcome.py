@@ -74,7 +74,7 @@ class SatisfactoryDespiteFailedReadings(CertificateCheck):
 
     Why it matters:
     A landlord or agent reads the overall assessment, not the schedule. A satisfactory
-    verdict over failed readings hides a danger behind the one word they rely on.
+    verdict over failing readings hides a danger behind the one word they rely on.
 
     Known false alarms:
     A reading that the check misreads (see the finding of the check named); a failure the
@@ -96,8 +96,8 @@ class SatisfactoryDespiteFailedReadings(CertificateCheck):
     source.
     """
 
-    id = "satisfactory-despite-failed-readings"
-    title = "Satisfactory report over failed readings"
+    id = "satisfactory-despite-failing-readings"
+    title = "Satisfactory report over failing readings"
     severity = Severity.BREACH
     reference = "BS 7671:2018+A2:2022 Appendix 6 (classification codes, overall assessment)"
     basis = "published"
