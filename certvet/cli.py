@@ -27,6 +27,41 @@ from certvet.exitcodes import (
     parse_fail_on,
 )
 
+
+def _readable_metavars() -> None:
+    """Help shows words a user reads (PATH, TEXT, N, PDF...) rather than typer's Python types
+    (<path>, <list[Path]>, <int range>); an argument with its own metavar shows only that.
+    Typer has no setting for this, so its two display methods are wrapped here, once; if a
+    typer release renames them nothing changes and tests/test_cli_conventions.py fails."""
+    import re
+
+    import typer.core as tc
+
+    param = getattr(tc, "_TyperParameter", None)
+    if param is None or not hasattr(param, "display_type") or getattr(param, "_certvet", False):
+        return
+    words = {"path": "PATH", "str": "TEXT", "int": "N", "int range": "N", "float": "NUMBER",
+             "float range": "NUMBER", "Path": "PATH", "bool": "BOOL"}
+    type_of = param.display_type
+
+    def display_type(self: Any, ctx: Any) -> str:
+        label = str(type_of(self, ctx)).strip("<>")
+        many = re.fullmatch(r"list\[(.*)\]", label)
+        label = many[1] if many else label
+        return words.get(label, label) + ("..." if many else "")
+
+    param.display_type = display_type
+    arg_type = tc.TyperArgument.display_type_rich
+
+    def argument_type(self: Any, ctx: Any) -> str | None:
+        return None if self.metavar else arg_type(self, ctx)
+
+    tc.TyperArgument.display_type_rich = argument_type  # type: ignore[method-assign]
+    param._certvet = True
+
+
+_readable_metavars()
+
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from certvet.api import AuditResult
     from checks.profile import Profile
@@ -40,10 +75,30 @@ app = typer.Typer(
         "you which results to question. Defer to BS 7671, local codes and licensed practice."
     ),
     no_args_is_help=True,
-    add_completion=False,
+    add_completion=True,  # --install-completion / --show-completion (bash, zsh, fish, pwsh)
     rich_markup_mode=None,
     pretty_exceptions_enable=False,
+    context_settings={"help_option_names": ["-h", "--help"]},
 )
+
+
+def _show_version(value: bool) -> None:
+    if value:
+        from certvet import __version__
+
+        typer.echo(f"certvet {__version__}")
+        raise typer.Exit(EXIT_CLEAN)
+
+
+@app.callback()
+def _main_options(
+    version: Annotated[
+        bool,
+        typer.Option("--version", "-V", callback=_show_version, is_eager=True,
+                     help="Print certvet's version and exit."),
+    ] = False,
+) -> None:
+    """Options before any command (the help text is the app's, above)."""
 
 class EngineChoice(StrEnum):
     pdfium = "pdfium"
@@ -88,12 +143,16 @@ def _run_batch(
     password: str | None,
     quiet: bool,
     fail_on: frozenset[Any],
+    verbose: bool = False,
+    as_json: bool = False,
 ) -> int:
     from certvet.api import audit_many
     from reports.verdict import NOT_AUDITED
 
+    quiet = quiet or as_json  # --json: stdout holds the document alone; errors go to stderr
     show_bar = len(pdfs) > 3 and not quiet and sys.stderr.isatty()
     lines: list[str] = []
+    printed = [0]  # lines already echoed
 
     def done(path: Path, result: AuditResult | None, error: str | None) -> None:
         if error and quiet:
@@ -108,8 +167,11 @@ def _run_batch(
                 f"{v.label.upper():<22} {one_line(str(path))}  ({n} findings, layout "
                 f"{result.layout})"
             )
+            if verbose:
+                lines.extend(_finding_lines(result))
         if not show_bar and not quiet:
-            typer.echo(lines[-1])
+            typer.echo("\n".join(lines[printed[0]:]))
+        printed[0] = len(lines)
 
     if show_bar:
         from rich.progress import Progress
@@ -155,9 +217,25 @@ def _run_batch(
             "A desk check cannot show an installation is safe; "
             "defer to BS 7671 and licensed practice."
         )
-    if summary.failed:
-        return EXIT_FAILED
-    return EXIT_FINDINGS if breach else EXIT_CLEAN
+    code = EXIT_FAILED if summary.failed else (EXIT_FINDINGS if breach else EXIT_CLEAN)
+    if as_json:
+        import json
+
+        from certvet.jsonresult import audit_result_document
+
+        typer.echo(json.dumps(audit_result_document(summary, code), indent=1,
+                              ensure_ascii=False))
+    return code
+
+
+def _finding_lines(result: AuditResult) -> list[str]:
+    """`--verbose`: one line per finding under the file's line."""
+    out = []
+    for f in result.results.findings:
+        where = "/".join(x for x in (f.board, f.circuit) if x) or "certificate"
+        tag = f"{f.severity.label}{' (preview)' if f.preview else ''}"
+        out.append(one_line(f"    {tag:<24} {where:<10} {f.check_id}: {f.message}"))
+    return out
 
 
 @app.command()
@@ -191,6 +269,14 @@ def audit(
         typer.Option("--password", help="Password for encrypted PDFs."),
     ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing but errors.")] = False,
+    verbose: Annotated[
+        bool, typer.Option("--verbose", "-v", help="Also print every finding under its file.")
+    ] = False,
+    as_json: Annotated[
+        bool, typer.Option("--json", help="Print a machine-readable result on stdout (JSON with "
+                           "its format_version; see certvet/jsonresult.py) instead of the "
+                           "console lines.")
+    ] = False,
     fail_on: Annotated[
         str, typer.Option("--fail-on", metavar="SEVERITIES",
                           help="Severities that make the exit status 1, comma-separated "
@@ -216,7 +302,7 @@ def audit(
         raise typer.Exit(EXIT_FAILED)
     _make_out_dir(out)
     code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet,
-                      severities)
+                      severities, verbose=verbose, as_json=as_json)
     raise typer.Exit(code)
 
 
