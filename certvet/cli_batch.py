@@ -13,6 +13,7 @@ from typing import Annotated, Any, Optional
 
 import typer
 
+from certvet import cli_drafting as draft_opts
 from certvet.console import err as _err
 from certvet.console import make_out_dir, one_line
 from certvet.exitcodes import DEFAULT_FAIL_ON, EXIT_FAILED, EXIT_USAGE, parse_fail_on
@@ -36,7 +37,9 @@ def batch(
         list[Path],
         typer.Option("--layout", "-l", metavar="LAYOUT",
                      help="Layout file or folder of layouts; repeatable. "
-                     "Each file's form is recognised automatically among them."),
+                     "Each file's form is recognised automatically among them; files of a form "
+                     "none recognises share a layout drafted from the first of them "
+                     "(see --no-draft-unknown-forms)."),
     ] = [],  # noqa: B006
     store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")
                      ] = Path("corpus.sqlite"),
@@ -67,6 +70,9 @@ def batch(
                                "(note, query, breach, impossible); findings across "
                                "certificates count too (a copied schedule is impossible).")
     ] = DEFAULT_FAIL_ON,
+    draft_unknown: draft_opts.DraftUnknown = True,
+    min_draft_confidence: draft_opts.MinConfidence = draft_opts.READ_AT,
+    trusted_draft_confidence: draft_opts.TrustedConfidence = draft_opts.TRUSTED_AT,
 ) -> None:
     """Audit a folder of certificates into the corpus: resumable, in parallel, never stopped by
     one bad file; then cross-certificate checks and a portfolio page."""
@@ -76,11 +82,8 @@ def batch(
     from corpus.store import CorpusError
     from extractor.layout import LayoutError, load_layouts
 
-    if not layout:
-        _err("give at least one --layout (a layout file or a folder of them)")
-        raise typer.Exit(EXIT_USAGE)
     try:
-        layouts = load_layouts(layout)
+        layouts = load_layouts(layout) if layout else []
         prof = load_profile(profile) if profile else DEFAULT_PROFILE
         severities = parse_fail_on(fail_on)
     except (LayoutError, ProfileError, ValueError) as exc:
@@ -135,7 +138,9 @@ def batch(
         report = run_batch(inputs, layouts=layouts, store=store, out_dir=out, workers=workers,
                            limits=Limits(seconds=timeout, memory_mb=memory_mb), profile=prof,
                            password=password, on_event=on_event, retry_failed=retry_failed,
-                           scheduler=scheduler, on_start=on_start, fail_on=severities)
+                           scheduler=scheduler, on_start=on_start, fail_on=severities,
+                           drafting=draft_opts.draft_options(draft_unknown, min_draft_confidence,
+                                                             trusted_draft_confidence))
     except (CorpusError, ConnectionError) as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_FAILED) from None

@@ -240,17 +240,23 @@ ALTER TABLE certificates DROP COLUMN verdict;
 ALTER TABLE certificates RENAME COLUMN verdict_v5 TO verdict
 """
 
+# a certificate read with a layout drafted on the fly (certvet/drafting.py): the note its
+# reports carry, kept so a verdict decided again from the store still knows it
+_V6 = """
+ALTER TABLE certificates ADD COLUMN drafted_layout TEXT  -- JSON: DraftedLayoutNote.to_dict()
+"""
+
 # the certificate as a whole: dates of issue, edition, premises, age, signatures, observation
 # counts, supply and bonding sizes (extractor/fields.py, added with the whole-certificate checks)
-CERTIFICATE_FIELDS_V6 = (
+CERTIFICATE_FIELDS_V7 = (
     "issue_date", "bs7671_edition", "premises_type", "installation_age",
     "instrument_calibration", "designer_signature", "constructor_signature",
     "inspector_signature", "observations", "c1_count", "c2_count", "c3_count", "fi_count",
     "supply_csa", "main_earthing_csa", "main_bonding_csa", "electrode_ra", "spd_fitted",
 )
-_V6 = "\n".join(
+_V7 = "\n".join(
     f"ALTER TABLE certificates ADD COLUMN {f}_{suffix} {kind};"
-    for f in CERTIFICATE_FIELDS_V6
+    for f in CERTIFICATE_FIELDS_V7
     for suffix, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
 ) + "\nALTER TABLE check_runs ADD COLUMN reason TEXT;  -- why a check did not apply, or NULL"
 
@@ -260,7 +266,8 @@ MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (3, "circuits: RCD standard and rating, IR neutral-earth, SPD type and indicator", _V3),
     (4, "boards: board RCD IΔn and the ways it protects (split-load boards)", _V4),
     (5, "one findings table (stage, severity slugs, related hashes); verdict keys", _V5),
-    (6, "certificates: whole-certificate fields; check_runs.reason", _V6),
+    (6, "certificates: the drafted-layout note of a certificate read with a drafted layout", _V6),
+    (7, "certificates: whole-certificate fields; check_runs.reason", _V7),
 )
 
 LATEST = MIGRATIONS[-1][0]

@@ -49,6 +49,7 @@ from extractor.records import (
     Cell,
     Certificate,
     Circuit,
+    DraftedLayoutNote,
     ExtractionProblem,
     Value,
     ValueKind,
@@ -448,6 +449,8 @@ class Corpus:
             "page_count": cert.page_count,
             "profile_name": results.profile.name,
             "profile": json.dumps(results.profile.to_dict(), default=str),
+            "drafted_layout": (json.dumps(cert.drafted.to_dict()) if cert.drafted is not None
+                               else None),
             **self._wide("certificates", cert.cells),
         }
         cert_id = self._insert("certificates", row)
@@ -626,10 +629,13 @@ class Corpus:
                     raise KeyError(cert_id)
                 frow = c.execute("SELECT * FROM files WHERE sha256 = ?",
                                  (crow["sha256"],)).fetchone()
+                drafted = crow["drafted_layout"]
                 cert = Certificate(source=frow["path"], sha256=crow["sha256"],
                                    layout=frow["layout"], engine=frow["engine"],
                                    page_count=crow["page_count"] or 0,
-                                   cells=_cells(crow, CERTIFICATE))
+                                   cells=_cells(crow, CERTIFICATE),
+                                   drafted=DraftedLayoutNote.from_dict(json.loads(drafted))
+                                   if drafted else None)
                 for brow in c.execute("SELECT * FROM boards WHERE cert_id = ? ORDER BY position",
                                       (cert_id,)).fetchall():
                     board = Board(ref=brow["ref"], cells=_cells(brow, BOARD), page=brow["page"])
