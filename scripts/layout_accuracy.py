@@ -243,8 +243,11 @@ class FormFigures:
         return self.recognised / self.certificates if self.certificates else 0.0
 
 
-def draft_all(engine: str = "pdfium", out: Path | None = None) -> dict[str, Any]:
-    """form → its unedited draft Layout (or the DraftError text), drafted from FORM_SAMPLES."""
+def draft_all(
+    engine: str = "pdfium", out: Path | None = None, samples: dict[str, str] | None = None
+) -> dict[str, Any]:
+    """form → its unedited draft Layout (or the DraftError text), drafted from `samples`
+    (default FORM_SAMPLES)."""
     from extractor.draft import draft_layout
     from extractor.errors import InputError
     from extractor.layout import load_layout
@@ -252,7 +255,7 @@ def draft_all(engine: str = "pdfium", out: Path | None = None) -> dict[str, Any]
     drafts: dict[str, Any] = {}
     with tempfile.TemporaryDirectory() as tmp:
         folder = out or Path(tmp)
-        for form, sample in FORM_SAMPLES.items():
+        for form, sample in (samples or FORM_SAMPLES).items():
             try:
                 res = draft_layout(ROOT / sample, engine=engine, name=form)
             except InputError as exc:
@@ -268,15 +271,19 @@ def measure_all(
     engine: str = "pdfium",
     forms: dict[str, list[str]] | None = None,
     no_layout: Callable[[str], Any | None] = read_without_layout,
+    samples: dict[str, str] | None = None,
 ) -> list[FormFigures]:
-    """Part 2: draft one sample per form, then read every certificate with the drafts."""
+    """Part 2: draft one sample per form, then read every certificate with the drafts.
+    `forms` (default: every fixture form) limits the certificates read, `samples` (default
+    FORM_SAMPLES) names the certificate each form's draft is made from."""
     from extractor.api import _first_recognising, extract, page_text
     from extractor.errors import InputError
 
     forms = forms or certificates_by_form()
-    drafts = draft_all(engine)
+    samples = samples or FORM_SAMPLES
+    drafts = draft_all(engine, samples=samples)
     layouts = [lay for lay in drafts.values() if not isinstance(lay, str)]
-    figures = {f: FormFigures(f, FORM_SAMPLES.get(f, "")) for f in forms}
+    figures = {f: FormFigures(f, samples.get(f, "")) for f in forms}
     for form, d in drafts.items():
         if isinstance(d, str) and form in figures:
             figures[form].draft_error = d
