@@ -22,6 +22,7 @@ from certvet.exitcodes import DEFAULT_FAIL_ON, EXIT_FAILED, EXIT_USAGE, parse_fa
 class ExportFormat(StrEnum):
     csv = "csv"
     parquet = "parquet"
+    xlsx = "xlsx"
 
 
 def _why(exc: OSError) -> str:
@@ -210,20 +211,22 @@ def portfolio(
 def export(
     store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")
                      ] = Path("corpus.sqlite"),
-    format: Annotated[ExportFormat, typer.Option("--format", "-f", help="csv or parquet.")
-                      ] = ExportFormat.csv,
+    format: Annotated[ExportFormat, typer.Option(
+        "--format", "-f", help="csv or parquet (one file per table), or xlsx (one workbook: "
+        "cautions and verdicts first, then certificates, circuits, findings…).")
+    ] = ExportFormat.csv,
     out: Annotated[Path, typer.Option("--out", "-o", help="Folder to write the tables to.")
                    ] = Path("corpus-export"),
 ) -> None:
-    """Export every table of the corpus as CSV or Parquet files."""
-    from corpus.store import Corpus, CorpusError
+    """Export every table of the corpus as CSV or Parquet files, or one XLSX workbook."""
+    from certvet.export import export_store
+    from corpus.store import CorpusError
 
     if not store.exists():
         _err(f"{store}: no such corpus store")
         raise typer.Exit(EXIT_USAGE)
     try:
-        with Corpus(store) as corpus:
-            written = corpus.export(out, format.value)
+        written = export_store(store, out, format.value)
     except (CorpusError, ImportError) as exc:
         _err(" ".join(str(exc).split()))
         raise typer.Exit(EXIT_FAILED) from None

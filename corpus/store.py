@@ -26,7 +26,7 @@ from dataclasses import dataclass
 from datetime import UTC, date, datetime
 from importlib import metadata
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from checks.model import CheckRun, Finding, Outcome, Severity
 from checks.profile import Profile
@@ -56,6 +56,9 @@ from extractor.records import (
 )
 from extractor.tokens import normalise_text, parse_value
 from extractor.untrusted import spreadsheet_cell
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 _SQLITE_MAGIC = b"SQLite format 3\x00"
 EXPORT_TABLES = ("files", "certificates", "boards", "circuits", "findings", "check_runs",
@@ -676,15 +679,10 @@ class Corpus:
             return stored_boards(self.conn, cert_id)
 
     # --- export ---------------------------------------------------------------------------------
-    def export(self, directory: str | Path, format: str = "csv") -> list[Path]:
-        """Write each table to `directory` as CSV or Parquet; returns the files written."""
+    def frames(self) -> Iterator[tuple[str, pd.DataFrame]]:
+        """Each exported table as (name, DataFrame), in EXPORT_TABLES order."""
         import pandas as pd
 
-        if format not in ("csv", "parquet"):
-            raise ValueError(f"unknown export format {format!r} (use csv or parquet)")
-        out_dir = Path(directory)
-        out_dir.mkdir(parents=True, exist_ok=True)
-        written = []
         for table in EXPORT_TABLES:
             with self._guard(f"export {table}"):
                 try:
@@ -693,6 +691,17 @@ class Corpus:
                 except pd.errors.DatabaseError as e:  # pandas wraps sqlite3's errors
                     raise CorpusError(f"{self.path}: export {table}: "
                                       f"{e.__cause__ or e}".replace("\n", " ")) from None
+            yield table, df
+
+    def export(self, directory: str | Path, format: str = "csv") -> list[Path]:
+        """Write each table to `directory` as CSV or Parquet; returns the files written.
+        (A spreadsheet workbook of the same tables: certvet.export.export_store.)"""
+        if format not in ("csv", "parquet"):
+            raise ValueError(f"unknown export format {format!r} (use csv or parquet)")
+        out_dir = Path(directory)
+        out_dir.mkdir(parents=True, exist_ok=True)
+        written = []
+        for table, df in self.frames():
             target = out_dir / f"{table}.{format}"
             if format == "csv":  # text from PDFs: formula-like cells made spreadsheet-safe
                 df.map(spreadsheet_cell).to_csv(target, index=False)
