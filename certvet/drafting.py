@@ -115,8 +115,8 @@ class DraftedForms:
               ) -> tuple[Layout, Certificate]:
         """Draft a layout from the file and read it; InputError (one line naming the file
         and what to do) when the draft cannot be used."""
-        from extractor.engines.names import DEFAULT_ENGINE
         from extractor.draft_reading import draft_and_read, safe_name
+        from extractor.engines.names import DEFAULT_ENGINE
 
         opts = self.options
         name = safe_name(Path(path).stem, self.reserved)
