@@ -1,8 +1,10 @@
 """The library API: everything the CLI does is reachable from here.
 
     from certvet.api import audit_file, load_layouts
-    result = audit_file("cert.pdf", layouts=load_layouts([Path("layouts/")]), out_dir=Path("out"))
+    result = audit_file("cert.pdf", layouts=load_layouts("layouts/"), out_dir="out")
     print(result.verdict.label, len(result.results.findings))
+    result.findings_frame()        # pandas DataFrames of the findings and the circuits
+    result.circuits_frame()
 
 Heavy libraries (pdfplumber, pandas, jinja2) are imported inside the functions that need them,
 so importing this module — and the CLI's --help — stays fast.
@@ -24,6 +26,8 @@ from extractor.layout import Layout, LayoutError, load_layout, load_layouts
 from extractor.records import Certificate
 
 if TYPE_CHECKING:  # reports.verdict is imported lazily, in AuditResult.verdict
+    import pandas as pd
+
     from certvet.drafting import DraftedForms, DraftOptions
     from reports.verdict import Verdict
 
@@ -68,6 +72,18 @@ class AuditResult:
 
         return verdict_for(self.certificate, self.results)
 
+    def circuits_frame(self) -> pd.DataFrame:
+        """The certificate's circuits as a DataFrame (extractor.frame.circuits_frame)."""
+        from extractor.frame import circuits_frame
+
+        return circuits_frame(self.certificate)
+
+    def findings_frame(self) -> pd.DataFrame:
+        """The findings as a DataFrame (checks.frame.findings_frame)."""
+        from checks.frame import findings_frame
+
+        return findings_frame(self.results.findings)
+
     @property
     def has_breach(self) -> bool:
         from checks.model import Severity
@@ -102,8 +118,8 @@ def audit_file(
     *,
     layouts: Sequence[Layout] = (),
     layout: Layout | None = None,
-    profile: Profile | None = None,
-    out_dir: Path | None = None,
+    profile: Profile | str | Path | None = None,
+    out_dir: str | Path | None = None,
     engine: str | None = None,
     password: str | None = None,
     formats: Iterable[str] = REPORT_FORMATS,
@@ -126,6 +142,9 @@ def audit_file(
     from extractor.api import extract
 
     path = Path(pdf)
+    out_dir = Path(out_dir) if out_dir is not None else None
+    if isinstance(profile, (str, Path)):
+        profile = load_profile(Path(profile))
     if not path.exists():
         raise InputError(str(path), "file not found")
     if path.is_dir():

@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 import re
 import tomllib
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -391,10 +392,13 @@ def load_layout(path: str | Path) -> Layout:
     return parse_layout(data, str(p))
 
 
-def load_layouts(paths: list[Path]) -> list[Layout]:
-    """Load every *.toml under the given files/folders, sorted by path."""
+def load_layouts(paths: str | Path | Iterable[str | Path]) -> list[Layout]:
+    """Load every *.toml under the given files/folders (one path or several, str or Path),
+    sorted by path: ``load_layouts("layouts/")``."""
+    if isinstance(paths, (str, Path)):
+        paths = [paths]
     files: list[Path] = []
-    for p in paths:
+    for p in map(Path, paths):
         found = sorted(p.rglob("*.toml")) if p.is_dir() else [p]
         if not found:
             raise LayoutError(f"{p}: no layout files (*.toml) in this folder")
