@@ -20,6 +20,7 @@ from certvet.exitcodes import EXIT_CLEAN, EXIT_FAILED, EXIT_FINDINGS, EXIT_INTER
 
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from certvet.api import AuditResult
+    from certvet.workers import Limits
     from checks.profile import Profile
     from extractor.layout import Layout
 
@@ -76,6 +77,7 @@ def _run_batch(
     engine: str | None,
     password: str | None,
     quiet: bool,
+    limits: Limits,
 ) -> int:
     from certvet.api import audit_many
 
@@ -116,6 +118,7 @@ def _run_batch(
                 engine=engine,
                 password=password,
                 on_done=step,
+                limits=limits,
             )
         for ln in lines:
             typer.echo(ln)
@@ -128,6 +131,7 @@ def _run_batch(
             engine=engine,
             password=password,
             on_done=done,
+            limits=limits,
         )
     breach = any(r.has_breach for r in summary.audited)
     if not quiet:
@@ -177,9 +181,17 @@ def audit(
         typer.Option("--password", help="Password for encrypted PDFs."),
     ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing but errors.")] = False,
+    timeout: Annotated[
+        float, typer.Option("--timeout", min=1.0, help="Seconds allowed per file.")
+    ] = 120.0,
+    memory_mb: Annotated[
+        int, typer.Option("--memory-mb", min=0, help="Resident memory per file in MB (0 = none).")
+    ] = 2048,
 ) -> None:
-    """Audit certificates: extract the schedule, run every check, write HTML/JSON/CSV reports."""
+    """Audit certificates: extract the schedule, run every check, write HTML/JSON/CSV reports.
+    Each file is audited in its own process with the time and memory limits of `batch`."""
     from certvet.api import expand_inputs
+    from certvet.workers import Limits
 
     if not layout:
         _err("give at least one --layout (a layout file or a folder of them)")
@@ -190,7 +202,10 @@ def audit(
         _err(f"{', '.join(str(p) for p in pdfs)}: no PDF files found")
         raise typer.Exit(EXIT_FAILED)
     _make_out_dir(out)
-    code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet)
+    limits = Limits(seconds=timeout, memory_mb=memory_mb)
+    code = _run_batch(
+        files, layouts, prof, out, engine.value if engine else None, password, quiet, limits
+    )
     raise typer.Exit(code)
 
 

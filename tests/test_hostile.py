@@ -230,3 +230,19 @@ def test_an_internal_error_has_its_own_exit_code(
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "Traceback" not in err
     assert err.startswith("certvet: internal error (RuntimeError: a bug\\nwith two lines)")
+
+
+# --- per-file limits in audit ---------------------------------------------------------------
+
+
+def test_audit_has_the_batch_limits_on_resident_memory(tmp_path: Path) -> None:
+    """`audit` runs each file under a time and memory limit, and the memory limit is on
+    resident memory: 250 MB is plenty for a 3-page certificate (an address-space limit of
+    250 MB fails it), while 1 MB stops the file with a one-line reason."""
+    demo = HOSTILE.parents[0] / "demo"
+    pdf, layouts = demo / "grid-clean-01.pdf", HOSTILE.parents[0] / "layouts"
+    code, out = _invoke(["audit", pdf, "-l", layouts, "-o", tmp_path / "a", "--memory-mb", "250"])
+    assert code in (0, 1) and "FAILED" not in out, out
+    code, out = _invoke(["audit", pdf, "-l", layouts, "-o", tmp_path / "b", "--memory-mb", "1"])
+    assert code == 3, out
+    assert "used more than the memory limit" in out
