@@ -31,6 +31,7 @@ from extractor.engines.base import PageContent, Rule, Word
 from extractor.engines.words import is_unreadable
 from extractor.fields import BOARD, CERTIFICATE, FIELDS
 from extractor.layout import ColumnSpec, LabelSpec, Layout
+from extractor.patterns import compile_pattern
 from extractor.records import (
     Board,
     Box,
@@ -728,7 +729,7 @@ def assemble(
 def _ignoring_case(columns: tuple[ColumnSpec, ...]) -> tuple[ColumnSpec, ...]:
     """The columns with their header patterns matched regardless of letter case."""
     return tuple(
-        replace(c, header=re.compile(c.header.pattern, c.header.flags | re.IGNORECASE))
+        replace(c, header=compile_pattern(c.header.pattern, c.header.flags | re.IGNORECASE))
         if c.header is not None
         else c
         for c in columns

@@ -246,3 +246,55 @@ def test_audit_has_the_batch_limits_on_resident_memory(tmp_path: Path) -> None:
     code, out = _invoke(["audit", pdf, "-l", layouts, "-o", tmp_path / "b", "--memory-mb", "1"])
     assert code == 3, out
     assert "used more than the memory limit" in out
+
+
+# --- patterns that cannot hang, limited TOML, profiles validated before any file is read ----
+
+
+@pytest.mark.parametrize("name", sorted(EXPECTED["profiles"]))
+def test_hostile_profile(name: str) -> None:
+    from checks.profile import ProfileError, load_profile
+
+    path = HOSTILE / "profiles" / name
+    with pytest.raises(ProfileError) as info:
+        load_profile(path)
+    message = str(info.value)
+    assert "\n" not in message and message.startswith(f"{path}: ")
+    assert EXPECTED["profiles"][name] in message, message
+
+
+def test_every_hostile_profile_has_an_expected_outcome() -> None:
+    assert {p.name for p in (HOSTILE / "profiles").glob("*.toml")} == set(EXPECTED["profiles"])
+
+
+def test_a_bad_profile_stops_the_cli_before_any_file_is_read(tmp_path: Path) -> None:
+    layout, profile = HOSTILE / "layouts" / "hostile-grid.toml", HOSTILE / "profiles"
+    code, out = _invoke(["audit", HOSTILE / "not-a-pdf.pdf", "-l", layout,
+                         "--profile", profile / "zero-voltage.toml", "-o", tmp_path])
+    assert code == 2, out
+    assert "u0_v: must be above 0" in out and "not a PDF" not in out
+
+
+def _audit_bait(path: Path) -> int:
+    layout = load_layout(HOSTILE / "layouts" / "catastrophic-pattern.toml")
+    return len(audit_file(path, layout=layout, formats=()).certificate.circuits())
+
+
+def test_a_catastrophic_pattern_does_not_hang() -> None:
+    """`^(a+)+$` against a line of 40 a's and a "!" backtracks for ever in Python's engine;
+    the layout runs it on RE2. Run in a child with a generous limit, so a regression fails
+    rather than hangs the suite."""
+    from certvet.workers import Limits, run_isolated
+
+    [outcome] = run_isolated([HOSTILE / "backtracking-bait.pdf"], _audit_bait,
+                             limits=Limits(seconds=60, memory_mb=0))
+    assert outcome.error is None and outcome.result == 4
+
+
+def test_an_oversized_layout_is_refused_in_one_line(tmp_path: Path) -> None:
+    big = tmp_path / "big.toml"
+    good = (HOSTILE / "layouts" / "hostile-grid.toml").read_text(encoding="utf-8")
+    big.write_text(good + "\n# " + "x" * 1_100_000 + "\n", encoding="utf-8")
+    with pytest.raises(LayoutError) as info:
+        load_layout(big)
+    assert str(info.value).startswith(f"{big}: file too large")

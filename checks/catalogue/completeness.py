@@ -309,7 +309,7 @@ class CertificateDetailsMissing(CertificateCheck):
         fields: str = option(
             "cert_number,address,inspection_date,inspector,next_inspection",
             "common practice, no source",
-            "comma-separated certificate fields that must be filled in",
+            "comma-separated certificate fields that must be filled in", names="certificate"
         )
 
     def check_certificate(self, cert: Certificate) -> Iterable[Finding] | None:
