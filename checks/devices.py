@@ -2,9 +2,12 @@
 
 A schedule writes the same device many ways: the standard as "60898", "BS EN 60898",
 "BSEN60898-1", "61009", "BS 88-3", "88", "3036", "1361"; the type as "B", "Type B", "type-b",
-"gG"; the rating as "32" or "32A". ``parse_device`` turns those cells into one typed
-``Device``; ``circuit_kind`` says whether the circuit is a ring or a radial. Checks read these,
-never the raw text, so every check agrees on what a device is.
+"gG"; the rating as "32" or "32A"; or the whole device in one cell: "B32", "RCBO B32 30mA",
+"60898 B 32A". ``parse_device`` turns those cells into one typed ``Device``;
+``circuit_kind`` says whether the circuit is a ring or a radial (or that it cannot be told);
+``rcd_protection`` is the one definition of "an RCD protects this circuit" (its own RCD or
+RCBO, or a board RCD over its way). Checks read these, never the raw text, so every check
+agrees on what a device is.
 """
 
 from __future__ import annotations
@@ -13,7 +16,7 @@ import re
 from dataclasses import dataclass
 from enum import StrEnum
 
-from extractor.records import Circuit, ValueKind
+from extractor.records import Board, Circuit, ValueKind
 
 
 class DeviceFamily(StrEnum):
@@ -72,6 +75,7 @@ class Device:
     rating: float | None = None
     raw_standard: str = ""
     raw_type: str = ""
+    idn_ma: float | None = None  # an RCBO's IΔn written in the device cell ("RCBO B32 30mA")
 
     @property
     def is_breaker(self) -> bool:
@@ -135,6 +139,29 @@ def parse_curve(text: str) -> tuple[str | None, int | None, bool]:
     return None, None, False
 
 
+# The whole device in one cell: "B32", "RCBO B32 30mA", "60898 B 32A", "C 40".
+_COMBINED_RE = re.compile(r"(?<![a-z])([bcd])\s*-?\s*(\d{1,3}(?:\.\d)?)\s*a?(?![a-z0-9.])")
+_RATING_RE = re.compile(r"(?<![\d.])(\d{1,3})\s*a(?![a-z])")
+_IDN_RE = re.compile(r"(?<![\d.])(\d{1,4})\s*ma\b")
+
+
+def _from_one_cell(texts: list[str]) -> tuple[str | None, float | None, float | None, bool]:
+    """(curve, rating, IΔn mA, says RCBO) read from cells holding the whole device."""
+    curve = rating = idn = None
+    rcbo = False
+    for text in texts:
+        low = text.lower()
+        rcbo = rcbo or "rcbo" in low
+        if idn is None and (m := _IDN_RE.search(low)):
+            idn = float(m.group(1))
+            low = low[:m.start()] + " " + low[m.end():]
+        if curve is None and (m := _COMBINED_RE.search(low)):
+            curve, rating = m.group(1).upper(), float(m.group(2))
+        elif rating is None and (m := _RATING_RE.search(low)):
+            rating = float(m.group(1))
+    return curve, rating, idn, rcbo
+
+
 def parse_device(circuit: Circuit) -> Device:
     """The circuit's device from its device_standard, device_type and rating cells.
 
@@ -159,10 +186,19 @@ def parse_device(circuit: Circuit) -> Device:
             standard = "BS EN 60898" if curve else "BS 3871"
         elif gg:
             family, standard = DeviceFamily.FUSE_BS88_2, "BS 88-2"
-    if family in FUSES:
-        curve = None
     rating_value = circuit.value("rating")
     rating = rating_value.number if rating_value.kind is ValueKind.NUMBER else None
+    one_curve, one_rating, idn, says_rcbo = _from_one_cell([raw_type, raw_std, rating_value.raw])
+    if curve is None and one_curve is not None and family not in FUSES:
+        curve = one_curve
+    if rating is None:
+        rating = one_rating
+    if says_rcbo and family in (DeviceFamily.UNKNOWN, DeviceFamily.MCB):
+        family, standard = DeviceFamily.RCBO, "BS EN 61009"
+    elif family is DeviceFamily.UNKNOWN and curve is not None:
+        family, standard = DeviceFamily.MCB, "BS EN 60898"
+    if family in FUSES:
+        curve = None
     return Device(
         family=family,
         standard=standard,
@@ -171,6 +207,7 @@ def parse_device(circuit: Circuit) -> Device:
         rating=rating,
         raw_standard=raw_std,
         raw_type=raw_type,
+        idn_ma=idn,
     )
 
 
@@ -200,11 +237,129 @@ def circuit_kind(circuit: Circuit) -> CircuitKind:
         return CircuitKind.RING
     end_to_end = [circuit.value(f).kind for f in ("r1", "rn", "r2")]
     if circuit.number("r1_r2") is not None or circuit.number("r2_only") is not None:
-        if all(k in (ValueKind.NOT_APPLICABLE, ValueKind.DASH, ValueKind.EMPTY)
-               for k in end_to_end):
+        if all(k is ValueKind.NOT_APPLICABLE for k in end_to_end) or (
+                all(k in (ValueKind.NOT_APPLICABLE, ValueKind.DASH, ValueKind.EMPTY)
+                    for k in end_to_end) and not might_be_ring(circuit)):
             return CircuitKind.RADIAL
     return CircuitKind.UNKNOWN
 
 
+_SOCKET_TEXT = re.compile(
+    r"\b(?:sockets?|skts?|s/?o|sos|socket[- ]outlets?|double sockets?)\b", re.IGNORECASE)
+
+
+def serves_sockets(circuit: Circuit) -> bool:
+    """The description names socket-outlets ("Kitchen sockets", "skts", "s/o")."""
+    return bool(_SOCKET_TEXT.search(circuit.text("description")))
+
+
+def might_be_ring(circuit: Circuit) -> bool:
+    """A socket circuit of 2.5 mm² on a 30–32 A device that does not say it is a radial.
+
+    Such a circuit is normally a ring final circuit, so with its ring readings LIM, N/A or
+    blank the form has not told us ring or radial: checks that judge radials leave it alone
+    (common practice, no source: the usual ring of BS 7671 Reg 433.1.204, 2.5 mm² on 30/32 A).
+    """
+    if _RADIAL_WORDS.search(circuit.text("description").lower()):
+        return False
+    if not serves_sockets(circuit):
+        return False
+    csa, rating = circuit.number("live_csa"), circuit.number("rating")
+    if rating is None:
+        rating = parse_device(circuit).rating
+    return (csa is None or abs(csa - 2.5) < 1e-9) and (rating is None or 30 <= rating <= 32)
+
+
 def is_ring(circuit: Circuit) -> bool:
     return circuit_kind(circuit) is CircuitKind.RING
+
+
+def is_radial(circuit: Circuit) -> bool:
+    return circuit_kind(circuit) is CircuitKind.RADIAL
+
+
+def ring_or_radial_unknown(circuit: Circuit) -> bool:
+    """The form does not say ring or radial, and the circuit may well be a ring."""
+    return circuit_kind(circuit) is CircuitKind.UNKNOWN and might_be_ring(circuit)
+
+
+# --- RCD protection: the one definition ---------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class RcdProtection:
+    """What says an RCD protects a circuit, and its IΔn when known."""
+
+    source: str  # "circuit" (IΔn or trip time on the row), "rcbo", "rccb" or "board"
+    idn_ma: float | None
+
+
+def _ways(text: str) -> list[tuple[float, float]] | None:
+    """ "1-6, 9" → [(1, 6), (9, 9)]; "" or "all" → None (every way)."""
+    s = text.lower().replace("–", "-").replace(" to ", "-")
+    if not s.strip() or "all" in s:
+        return None
+    spans = []
+    for part in re.split(r"[,;/&]|\band\b", s):
+        nums = [float(n) for n in re.findall(r"\d+", part)]
+        if len(nums) == 1:
+            spans.append((nums[0], nums[0]))
+        elif len(nums) >= 2:
+            spans.append((nums[0], nums[1]))
+    return spans
+
+
+def _way_number(ref: str) -> float | None:
+    m = re.search(r"\d+", ref)
+    return float(m.group()) if m else None
+
+
+def board_rcd_covers(board: Board | None, circuit: Circuit) -> float | None:
+    """The IΔn of a board RCD over this circuit's way (board_rcd_idn / board_rcd_ways)."""
+    if board is None:
+        return None
+    idn = board.number("board_rcd_idn")
+    if idn is None:
+        return None
+    spans = _ways(board.text("board_rcd_ways"))
+    if spans is None:
+        return idn
+    way = _way_number(circuit.ref)
+    if way is None:
+        return None
+    return idn if any(a <= way <= b for a, b in spans) else None
+
+
+def is_rcbo(circuit: Circuit) -> bool:
+    """The circuit's own device is an RCBO (BS EN 61009, or "RCBO" written in its cells)."""
+    text = f"{circuit.text('device_standard')} {circuit.text('device_type')}".lower()
+    return parse_device(circuit).family is DeviceFamily.RCBO or "rcbo" in text
+
+
+def rcd_protection(circuit: Circuit, board: Board | None = None) -> RcdProtection | None:
+    """The one answer to "is this circuit RCD-protected?", or None when nothing says so.
+
+    In order: an IΔn recorded on the row; an RCBO (BS EN 61009, or "RCBO" written in the
+    device cells, with an IΔn written there); an RCCB as the circuit's device, or an RCD
+    standard (BS EN 61008/61009/62423) in the row's RCD standard cell; a board RCD (RCD main
+    switch or split-load RCD) over the circuit's way; an RCD trip time on the row.
+    """
+    idn = circuit.number("rcd_idn")
+    device = parse_device(circuit)
+    if idn is not None:
+        return RcdProtection("circuit", idn)
+    if is_rcbo(circuit):
+        return RcdProtection("rcbo", device.idn_ma)
+    if device.family is DeviceFamily.RCD:
+        return RcdProtection("rccb", device.idn_ma)
+    if normalise_standard(circuit.text("rcd_standard"))[1] in (DeviceFamily.RCD,
+                                                               DeviceFamily.RCBO):
+        return RcdProtection("rccb", None)
+    board_idn = board_rcd_covers(board, circuit)
+    if board_idn is not None:
+        return RcdProtection("board", board_idn)
+    if any(circuit.value(f).kind in (ValueKind.NUMBER, ValueKind.LOWER_BOUND,
+                                     ValueKind.UPPER_BOUND, ValueKind.NOT_CONFIRMED)
+           for f in ("rcd_time", "rcd_time_5x")):
+        return RcdProtection("circuit", None)
+    return None

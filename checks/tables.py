@@ -9,11 +9,13 @@ from __future__ import annotations
 
 import csv
 import io
+import re
 from dataclasses import dataclass
 from functools import cache
 from pathlib import Path
 
 from checks.devices import Device
+from extractor.tokens import ticked_choice
 
 DATA_DIR = Path(__file__).parent / "data"
 
@@ -94,50 +96,100 @@ class MaxZs:
 
 
 @cache
-def _breakers() -> dict[tuple[str, str, float], TableRow]:
+def _breakers() -> dict[tuple[str, str, float, str], TableRow]:
     return {
-        (r["edition"], r["curve"], r.num("rating_a")): r for r in load("max_zs_breakers").rows
+        (r["edition"], r["curve"], r.num("rating_a"), r["disconnection_s"]): r
+        for r in load("max_zs_breakers").rows
     }
 
 
 @cache
-def _fuses() -> dict[tuple[str, float, float], TableRow]:
+def _fuses() -> dict[tuple[str, str, float, float], TableRow]:
     return {
-        (r["standard"], r.num("rating_a"), r.num("disconnection_s")): r
+        (r["edition"], r["standard"], r.num("rating_a"), r.num("disconnection_s")): r
         for r in load("max_zs_fuses").rows
     }
+
+
+def _time_column(disconnection_s: float) -> float:
+    """The tabulated time that applies: 5 s for 5 s, else 0.4 s (the stricter, for 1 s too)."""
+    return 5.0 if disconnection_s >= 5 - 1e-9 else 0.4
 
 
 def max_zs(device: Device, disconnection_s: float = 0.4, edition: str = CURRENT) -> MaxZs | None:
     """The tabulated maximum Zs for a device, or None when the table has no row for it.
 
-    Circuit-breakers and RCBOs (types B, C, D): Table 41.3 (the same for 0.4 s and 5 s).
-    Fuses: Table 41.2 for 0.4 s, Table 41.4 for 5 s (current edition only).
+    Circuit-breakers and RCBOs: Table 41.3; types B and C have one value for 0.4 s and 5 s,
+    type D at 5 s uses Ia = 10 × In. Fuses: Table 41.2 for 0.4 s, Table 41.4 for 5 s. A time
+    between 0.4 s and 5 s (1 s, a TT distribution circuit) uses the 0.4 s value; no table
+    applies below 0.4 s.
     """
-    if device.rating is None:
+    if device.rating is None or disconnection_s < 0.4 - 1e-9:
         return None
+    t = _time_column(disconnection_s)
     if device.is_breaker and device.curve:
-        row = _breakers().get((edition, device.curve, float(device.rating)))
+        rows = _breakers()
+        row = rows.get((edition, device.curve, float(device.rating), "any"))
+        if row is None:
+            row = rows.get((edition, device.curve, float(device.rating), f"{t:g}"))
         if row is None:
             return None
-        return MaxZs(row.num("max_zs_ohm"), row.source, row.from_memory, None)
-    if device.is_fuse and edition == CURRENT:
-        t = 5.0 if disconnection_s >= 5 else 0.4
-        if disconnection_s < 0.4:
-            return None  # no table for fuses below 0.4 s
-        key = device.family.value
-        row = _fuses().get((key, float(device.rating), t))
-        if row is None:
+        timed = None if row["disconnection_s"] == "any" else t
+        return MaxZs(row.num("max_zs_ohm"), row.source, row.from_memory, timed)
+    if device.is_fuse:
+        frow = _fuses().get((edition, device.family.value, float(device.rating), t))
+        if frow is None:
             return None
-        return MaxZs(row.num("max_zs_ohm"), row.source, row.from_memory, t)
+        return MaxZs(frow.num("max_zs_ohm"), frow.source, frow.from_memory, t)
     return None
+
+
+def fuse_points(device: Device, edition: str = CURRENT) -> list[tuple[float, float]]:
+    """(current Ia in A, time in s) points of a fuse's characteristic from its tabulated
+    maxima: Ia = Cmin × U0 / Zs (derived, Cmin 0.95, U0 230 V), for 0.4 s and 5 s."""
+    if not device.is_fuse or device.rating is None:
+        return []
+    out = []
+    for t in (0.4, 5.0):
+        row = _fuses().get((edition, device.family.value, float(device.rating), t))
+        if row is not None:
+            out.append((0.95 * 230.0 / row.num("max_zs_ohm"), t))
+    return out
+
+
+@cache
+def _resolutions() -> list[tuple[float, float]]:
+    return sorted((r.num("range_max_ohm"), r.num("resolution_ohm"))
+                  for r in load("loop_resolution").rows)
+
+
+def loop_resolution(ohm: float) -> float:
+    """The resolution a loop tester shows a reading of this size at (loop_resolution.csv)."""
+    for top, res in _resolutions():
+        if ohm <= top + 1e-9:
+            return res
+    return _resolutions()[-1][1]
 
 
 # --- disconnection times, declared Ze, factors -------------------------------------------------
 
 
+EARTHING_CHOICES = ("TN-C-S", "TN-S", "TT", "TN-C", "PME", "TNCS", "TNS")
+
+
 def normalise_earthing(text: str) -> str | None:
-    """"TN-C-S", "TNCS", "PME" → "TN-C-S"; "TN-S" → "TN-S"; "TT" → "TT"; else None."""
+    """"TN-C-S", "TNCS", "PME" → "TN-C-S"; "TN-S" → "TN-S"; "TT" → "TT"; else None.
+
+    A tick-box line printing every system ("TN-S ☐ TN-C-S ☑ TT ☐") gives the ticked one,
+    and None when which one is ticked cannot be told.
+    """
+    named = [c for c in ("TN-C-S", "TN-S", "TT", "TN-C", "PME")
+             if re.search(r"(?<![\w-])" + re.escape(c) + r"(?![\w-])", text, re.IGNORECASE)]
+    if len(named) > 1 or any(ch in text for ch in "☐□☑☒"):
+        choice, _ = ticked_choice(text, EARTHING_CHOICES)
+        if choice is None:
+            return None
+        text = choice
     s = text.upper().replace(" ", "").replace("_", "-").replace("–", "-")
     compact = s.replace("-", "")
     if compact in ("TNCS", "PME", "PNB") or "TNCS" in compact or "PME" in compact:

@@ -182,10 +182,19 @@ _V3 = "\n".join(
     for part, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
 )
 
+# a board-level RCD (RCD main switch, or the RCD of a split-load board) and the ways it protects
+BOARD_FIELDS_V4 = ("board_rcd_idn", "board_rcd_ways")
+_V4 = "\n".join(
+    f"ALTER TABLE boards ADD COLUMN {f}_{part} {kind};"
+    for f in BOARD_FIELDS_V4
+    for part, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
+)
+
 MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (1, "files, certificates, boards, circuits, findings, similarity index", _V1),
     (2, "certificates: rule profile used (profile_name, profile JSON)", _V2),
     (3, "circuits: RCD standard and rating, IR neutral-earth, SPD type and indicator", _V3),
+    (4, "boards: board RCD IΔn and the ways it protects (split-load boards)", _V4),
 )
 
 LATEST = MIGRATIONS[-1][0]

@@ -42,7 +42,7 @@ from extractor.records import (
     Value,
     ValueKind,
 )
-from extractor.tokens import parse_value
+from extractor.tokens import parse_value, resolve_row_marks
 
 SNAP = 1.5  # rule positions closer than this (points) are the same grid line
 HEADER_SHARE = 0.4  # share of header columns that must be found around a row-key header
@@ -721,6 +721,11 @@ def assemble(
     for name, (values, boxes) in collected.items():
         box = boxes[0]
         cert.cells[name] = b.cell(name, ", ".join(values), box, None, None)
+    for board in cert.boards:  # ditto marks ("as above") and "2.5+1.5" sizes, row by row
+        for circuit, field_name, why in resolve_row_marks(board.circuits):
+            b.problem(f"cannot read {field_name}: {why}", field=field_name, board=board.ref,
+                      circuit=circuit.ref, raw=circuit.value(field_name).raw,
+                      box=circuit.box(field_name))
     cert.problems.extend(account_boards(cert))
     return cert
 

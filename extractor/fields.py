@@ -83,6 +83,10 @@ BOARD_FIELDS: tuple[FieldSpec, ...] = (
     FieldSpec("ipf", "Prospective fault current", N, "kA", "board"),
     FieldSpec("earthing", "Earthing system", T, None, "board"),
     FieldSpec("board_polarity", "Polarity at the board", C, None, "board"),
+    # An RCD at the board (RCD main switch, or the RCD of a split-load board) protecting the
+    # MCB ways listed in board_rcd_ways ("1-6", "1,2,5"; blank or "all": every way).
+    FieldSpec("board_rcd_idn", "Board RCD IΔn", N, "mA", "board"),
+    FieldSpec("board_rcd_ways", "Ways protected by the board RCD", T, None, "board"),
 )
 
 CERTIFICATE_FIELDS: tuple[FieldSpec, ...] = (

@@ -45,6 +45,7 @@ class ValueKind(StrEnum):
     DASH = "dash"  # a dash written in the cell
     EMPTY = "empty"  # nothing written
     UNREADABLE = "unreadable"  # text that could not be parsed for this field
+    DITTO = "ditto"  # a ditto mark ('"', "do"): "as above"; resolved against the row above
 
 
 @dataclass(frozen=True)
@@ -55,6 +56,8 @@ class Value:
     unit: str | None = None  # canonical unit of `number`
     text: str | None = None  # normalised text for TEXT values
     problem: str | None = None  # why an UNREADABLE value could not be parsed
+    flag: str | None = None  # how the reading was written, when it needs saying: a footnote
+    # mark ("1.37*"), "(calc)", amperes in a mA column, "as above" (ditto), over-range "OL"
 
     @property
     def is_number(self) -> bool:
@@ -82,6 +85,8 @@ class Value:
             d["text"] = self.text
         if self.problem:
             d["problem"] = self.problem
+        if self.flag:
+            d["flag"] = self.flag
         return d
 
 

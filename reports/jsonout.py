@@ -180,6 +180,7 @@ def _cells_from(d: dict[str, dict[str, Any]]) -> dict[str, Cell]:
             unit=c.get("unit"),
             text=c.get("text"),
             problem=c.get("problem"),
+            flag=c.get("flag"),
         )
         cells[name] = Cell(name, value, _box_from(c.get("box")))
     return cells

@@ -13,7 +13,7 @@ from typing import Any
 
 from extractor.fields import BOARD, CERTIFICATE, FIELDS
 from extractor.records import Board, Cell, Certificate, Circuit, ExtractionProblem
-from extractor.tokens import parse_value
+from extractor.tokens import parse_value, resolve_row_marks
 
 CASES_DIR = Path(__file__).parent / "cases"
 
@@ -52,6 +52,9 @@ def make_certificate(
             for name, text in craw.items():
                 c.cells[name] = _cell(name, text, FIELDS)
             b.circuits.append(c)
+        for c, name, why in resolve_row_marks(b.circuits):
+            cert.problems.append(ExtractionProblem(f"cannot read {name}: {why}", field=name,
+                                                   board=ref, circuit=c.ref))
         cert.boards.append(b)
     for p in problems or []:
         cert.problems.append(ExtractionProblem(**p))
@@ -71,6 +74,8 @@ class Case:
     options: dict[str, Any] = field(default_factory=dict)
     severity: str | None = None  # expected severity of the findings, when given
     problems: list[dict[str, Any]] = field(default_factory=list)  # extraction problems
+    # where the findings must be: [{ circuit = "2", field = "zs" }, …] (board optional)
+    at: list[dict[str, str]] | None = None
 
     def build(self) -> Certificate:
         return make_certificate(self.circuits, self.board, self.certificate, self.boards,
@@ -83,7 +88,7 @@ def load_cases() -> list[Case]:
         data = tomllib.loads(path.read_text(encoding="utf-8"))
         for raw in data.get("case", []):
             unknown = set(raw) - {"name", "expect", "source", "circuits", "board", "boards",
-                                  "certificate", "options", "severity", "problems"}
+                                  "certificate", "options", "severity", "problems", "at"}
             if unknown:
                 raise ValueError(f"{path}: case {raw.get('name')!r}: unknown keys {unknown}")
             cases.append(Case(check_id=path.stem, **raw))

@@ -22,6 +22,11 @@ def test_case(case: Case) -> None:
     )
     if case.severity and findings:
         assert {f.severity for f in findings} == {Severity.parse(case.severity)}
+    if case.at is not None:
+        keys = sorted(set().union(*(set(a) for a in case.at))) if case.at else ["circuit"]
+        got = sorted(tuple(str(getattr(f, k)) for k in keys) for f in findings)
+        want = sorted(tuple(str(a.get(k)) for k in keys) for a in case.at)
+        assert got == want, f"{case.check_id}::{case.name}: findings at {got}, expected {want}"
 
 
 def test_every_check_has_a_passing_and_a_failing_case() -> None:

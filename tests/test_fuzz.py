@@ -49,14 +49,19 @@ def test_parse_value_never_raises_and_is_consistent(raw: str | None, kind: Field
     assert v.raw == (raw or "")
     if v.kind in NUMERIC_KINDS:
         assert kind is FieldKind.NUMBER
-        assert isinstance(v.number, float) and v.number == v.number  # a real number, not NaN
         assert v.unit == unit
+        if v.number is None:  # "OL", "∞": over-range with no figure, and it says so
+            assert v.kind is ValueKind.LOWER_BOUND and v.flag
+        else:
+            assert isinstance(v.number, float) and v.number == v.number  # a real number
     else:
         assert v.number is None
     if v.kind is ValueKind.TEXT:
         assert kind is FieldKind.TEXT and v.text is not None
-    if v.kind in (ValueKind.CONFIRMED, ValueKind.NOT_CONFIRMED):
+    if v.kind is ValueKind.CONFIRMED:
         assert kind is FieldKind.CONFIRM
+    if v.kind is ValueKind.NOT_CONFIRMED:  # a cross, or "NT"/"No trip" in an RCD time column
+        assert kind is FieldKind.CONFIRM or (unit == "ms" and v.flag == "did not trip")
     if v.kind is ValueKind.UNREADABLE:
         assert v.problem
     if v.kind is ValueKind.EMPTY:

@@ -12,6 +12,7 @@ from checks.model import Finding, Severity
 from checks.registry import register
 from extractor.fields import CERTIFICATE, FIELDS
 from extractor.records import Board, Certificate, Circuit, Value, ValueKind
+from extractor.tokens import ticked_choice
 
 _SPARE = re.compile(r"\b(?:spare|unused|not used|blank|empty way|redundant)\b", re.IGNORECASE)
 _NONE_WORDS = {"none", "nil", "no", "no limitations", "none recorded", "n/a", "na"}
@@ -100,8 +101,11 @@ class PolarityNotConfirmed(CircuitCheck):
 _ALWAYS: tuple[tuple[str, ...], ...] = (
     ("zs",),
     ("r1_r2", "r2_only"),
-    ("ir_live_earth", "ir_live_live"),
+    ("ir_live_earth",),
 )
+# Results for which N/A is never an answer, limitation or not: insulation live-earth applies
+# to every circuit (a limitation is written as LIM).
+_NEVER_NA = frozenset({"ir_live_earth"})
 _RCD: tuple[tuple[str, ...], ...] = (("rcd_time",),)
 
 
@@ -114,8 +118,10 @@ class RequiredValueMissing(CircuitCheck):
     """A test result the circuit needs is blank, a dash, or N/A without a recorded limitation.
 
     What it checks:
-    For every circuit that is not a spare way: Zs, R1+R2 (or R2), and an insulation
-    resistance (live-earth or live-live); for an RCD-protected circuit the trip time at
+    For every circuit that is not a spare way: Zs, R1+R2 (or R2), insulation resistance
+    live-earth (always, even when live-live is recorded: N/A is never accepted for it, a
+    limitation is written LIM; live-live may be LIM or left to the form); for an
+    RCD-protected circuit the trip time at
     IΔn (a ring's r1, rn and r2 are left to ring-readings-missing). Each is missing when
     blank or a dash; N/A counts as missing unless the certificate records a limitation.
     Columns the form does not have (no circuit on the board has that cell) are not
@@ -170,7 +176,7 @@ class RequiredValueMissing(CircuitCheck):
         if is_spare(circuit):
             return None
         groups = list(_ALWAYS)
-        if has_rcd(circuit):
+        if has_rcd(circuit, board):
             groups += _RCD
         na_ok = self.options.na_allowed_with_limitation and limitations_recorded(cert)
         found = []
@@ -183,7 +189,7 @@ class RequiredValueMissing(CircuitCheck):
             if kinds & set(_HAS_READING) or kinds & {ValueKind.LIMITATION,
                                                      ValueKind.UNREADABLE}:
                 continue
-            if ValueKind.NOT_APPLICABLE in kinds and na_ok:
+            if ValueKind.NOT_APPLICABLE in kinds and na_ok and not set(present) & _NEVER_NA:
                 continue
             field = present[0]
             shown = values[0].display()
@@ -334,14 +340,17 @@ class CertificateDetailsMissing(CertificateCheck):
         return found
 
 
-_CODE_RE = re.compile(r"\b(C1|C2|C3|FI)\b(?:\s*(?:[:=x×]|\bx\b)?\s*(\d+)\b)?")
+_CODE_RE = re.compile(
+    r"\b(C1|C2|C3|FI)\b(?:\s*(?:[:=x×\-–—]|\bX\b)?\s*(\d+|NIL|NONE|NO)\b)?")
 
 
 def observation_codes(text: str) -> dict[str, int]:
-    """Codes and counts from text like "C2, C3", "C1: 0 C2: 2 C3: 1" or "C2 x2, FI"."""
+    """Codes and counts from text like "C2, C3", "C1: 0 C2: 2 C3: 1", "C2 x2, FI" or a
+    summary "C1 - 0, C2 - 0, C3 - 2" (a count after a dash is a count, not a code listed)."""
     counts: dict[str, int] = {}
     for m in _CODE_RE.finditer(text.upper()):
-        n = int(m.group(2)) if m.group(2) is not None else 1
+        got = m.group(2)
+        n = (int(got) if got.isdigit() else 0) if got is not None else 1
         counts[m.group(1)] = counts.get(m.group(1), 0) + n
     return counts
 
@@ -367,8 +376,9 @@ class OutcomeContradictsObservations(CertificateCheck):
     Overall assessment "Satisfactory", observation codes "C2 x1, C3 x2".
 
     Passing example:
-    Overall assessment "Satisfactory", observation codes "C3 x2"; or "Unsatisfactory" with
-    "C2".
+    Overall assessment "Satisfactory", observation codes "C3 x2"; "C1 - 0, C2 - 0, C3 - 1"
+    (a summary of counts); or "Unsatisfactory" with "C2". When both outcomes are printed as
+    tick boxes, the ticked one is read; if that cannot be told the check does not apply.
 
     Options:
     none.
@@ -387,6 +397,11 @@ class OutcomeContradictsObservations(CertificateCheck):
 
     def check_certificate(self, cert: Certificate) -> Iterable[Finding] | None:
         outcome = cert.text("overall_outcome").lower()
+        if "unsatisf" in outcome and "satisfactory" in outcome.replace("unsatisfactory", ""):
+            choice, _ = ticked_choice(outcome, ("satisfactory", "unsatisfactory"))
+            if choice is None:
+                return None  # both printed, which one is ticked cannot be told
+            outcome = choice
         if "satisf" not in outcome or "unsatisf" in outcome or "not satisf" in outcome:
             return None
         codes = observation_codes(cert.text("observation_codes"))

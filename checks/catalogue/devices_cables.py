@@ -9,7 +9,7 @@ from dataclasses import dataclass
 
 from checks import tables
 from checks.base import CircuitCheck, fmt, option
-from checks.devices import Device, is_ring, parse_device
+from checks.devices import Device, is_ring, parse_device, ring_or_radial_unknown
 from checks.model import Finding, Severity
 from checks.registry import register
 from extractor.records import Board, Certificate, Circuit
@@ -36,6 +36,11 @@ class CableRatingFitsDevice(CircuitCheck):
     Why it matters:
     Overload protection needs In ≤ Iz; a device larger than the cable can carry lets the
     cable overheat under a sustained overload without the device operating.
+
+    A socket circuit of 2.5 mm² on a 30/32 A device whose ring readings are LIM, N/A or
+    blank and whose description does not say radial is normally a ring: whether it is one
+    cannot be told, so it is not judged as a radial (ring-readings-missing asks for the
+    readings).
 
     Known false alarms:
     Cables other than twin and earth (singles, SWA, 90 °C thermosetting) can have a higher
@@ -71,6 +76,8 @@ class CableRatingFitsDevice(CircuitCheck):
     ) -> Iterable[Finding] | None:
         if is_ring(circuit) or _OTHER_CABLE.search(circuit.text("wiring_type")):
             return None
+        if ring_or_radial_unknown(circuit):
+            return None  # a 2.5 mm² socket circuit on 32 A with no ring readings: ring or radial?
         rating, csa = circuit.number("rating"), circuit.number("live_csa")
         if rating is None or csa is None:
             return None
@@ -171,30 +178,64 @@ class Adiabatic:
     assumption: str
 
 
-def adiabatic(circuit: Circuit, device: Device, u0_v: float, breaker_time_s: float,
-              fuse_time_s: float) -> Adiabatic | None:
+def fuse_i2t(device: Device, current_a: float) -> tuple[float, float, str] | None:
+    """(I² t in A²s, the time t, how it was found) for a fuse at a fault current, the worst
+    case along its characteristic, or None when the tables give too little to say.
+
+    The characteristic is known at two points from the tabulated maxima: Ia(0.4 s) and
+    Ia(5 s), Ia = Cmin U0 / Zs max (tables.fuse_points, derived). A fuse's pre-arcing I²t
+    does not rise with current (from memory: gG and BS 88-3 time-current curves are at
+    least as steep as I⁻² above 0.1 s), so for any fault current at or above Ia(0.4 s) the
+    worst case is the 0.4 s point itself, I²t = Ia(0.4 s)² × 0.4. Between the two points the
+    time is read from the straight line joining them on log-log axes.
+    """
+    points = tables.fuse_points(device)
+    at_04 = next((p for p in points if p[1] == 0.4), None)
+    at_5 = next((p for p in points if p[1] == 5.0), None)
+    if at_04 is None:
+        return None
+    ia04, _ = at_04
+    if current_a >= ia04 - 1e-9:
+        return ia04**2 * 0.4, 0.4, (
+            f"fuse worst case at its 0.4 s point (Ia {ia04:.0f} A, derived from the "
+            "tabulated maximum Zs)")
+    if at_5 is None or current_a < at_5[0] - 1e-9:
+        return None
+    ia5 = at_5[0]
+    slope = math.log(5.0 / 0.4) / math.log(ia04 / ia5)
+    t = 0.4 * (ia04 / current_a) ** slope
+    return current_a**2 * t, t, (
+        f"fuse time {t:.2f} s read between its 0.4 s and 5 s points (derived)")
+
+
+def adiabatic(circuit: Circuit, device: Device, u0_v: float, breaker_time_s: float
+              ) -> Adiabatic | None:
     """The adiabatic minimum cpc size for a circuit, or None when it cannot be worked out.
 
     I = U0/Zs (measured Zs). Circuit-breakers: t = breaker_time_s, valid only when I is at
     or above the instantaneous tripping current (5/10/20 × In for B/C/D); below that the
-    device is not in its instantaneous region and None is returned. Fuses: t = fuse_time_s.
+    device is not in its instantaneous region and None is returned. Fuses: I²t from the
+    fuse's characteristic at the worst case (fuse_i2t).
     """
     zs = circuit.number("zs")
     if zs is None or zs <= 0 or device.rating is None:
         return None
     current = u0_v / zs
+    k = tables.cpc_k("thermoplastic_70c").num("k")
     if device.is_breaker and device.curve in _INSTANT_MULTIPLE:
         if current < _INSTANT_MULTIPLE[device.curve] * device.rating - 1e-9:
             return None
         t = breaker_time_s
         assumption = f"circuit-breaker in its instantaneous region, t assumed {t:g} s"
+        i2t = current**2 * t
     elif device.is_fuse:
-        t = fuse_time_s
-        assumption = f"fuse, t taken as the {t:g} s disconnection time"
+        got = fuse_i2t(device, current)
+        if got is None:
+            return None
+        i2t, t, assumption = got
     else:
         return None
-    k = tables.cpc_k("thermoplastic_70c").num("k")
-    return Adiabatic(current, t, k, math.sqrt(current**2 * t) / k, assumption)
+    return Adiabatic(current, t, k, math.sqrt(i2t) / k, assumption)
 
 
 @register
@@ -206,7 +247,11 @@ class CpcAdiabatic(CircuitCheck):
     equation S = √(I²t)/k, with I = U0/Zs (U0 230 V), k = 115 (70 °C thermoplastic copper
     cpc in a cable, Table 54.3) and t: for a circuit-breaker, an assumed 0.01 s when I is in
     its instantaneous region (at least 5/10/20 × In for type B/C/D; otherwise not applied);
-    for a fuse, the 0.4 s disconnection time. The recorded cpc smaller than S is queried.
+    for a fuse, the I²t at the worst case along its characteristic: for a fault current at
+    or above the fuse's 0.4 s current Ia (derived from the tabulated maximum Zs, Ia = 0.95 ×
+    230 / Zs max) that is Ia² × 0.4 s, since a fuse's I²t does not rise with current; below
+    it, the time read between the 0.4 s and 5 s points. The recorded cpc smaller than S is
+    queried.
 
     Why it matters:
     The cpc must carry the earth fault current until the device clears it without its
@@ -223,17 +268,18 @@ class CpcAdiabatic(CircuitCheck):
     is why this is a query, not a breach.
 
     Failing example:
-    Immersion, BS 88-3 20 A, 1.0 mm² cpc, Zs 0.60 Ω: I = 383 A, t 0.4 s,
-    S = √(383² × 0.4)/115 = 2.11 mm².
+    Sockets ring on a BS 3036 30 A rewirable fuse with 1.0 mm² cpc (older 2.5/1.0 cable),
+    Zs 0.80 Ω: Ia(0.4 s) = 0.95 × 230 / 1.04 = 210 A, S = 210 × √0.4 / 115 = 1.16 mm².
 
     Passing example:
-    Sockets ring, B32, 1.5 mm² cpc, Zs 0.35 Ω: I = 657 A, t 0.01 s, S = 0.57 mm².
+    Sockets ring, B32, 1.5 mm² cpc, Zs 0.35 Ω: I = 657 A, t 0.01 s, S = 0.57 mm²;
+    immersion, BS 88-3 20 A, 1.0 mm² cpc, Zs 0.60 Ω: Ia(0.4 s) = 0.95 × 230 / 1.55 =
+    141 A, S = 141 × √0.4 / 115 = 0.78 mm² (0.4 s at the 383 A measured would say 2.11).
 
     Options:
     u0_v: nominal voltage to earth used for the fault current (V).
     breaker_time_s: disconnection time assumed for a circuit-breaker in its instantaneous
     region (s).
-    fuse_time_s: disconnection time assumed for a fuse (s).
 
     Reference:
     BS 7671:2018+A2:2022 Reg 543.1.3 (adiabatic equation) and Table 54.3 (k = 115); the
@@ -260,10 +306,8 @@ class CpcAdiabatic(CircuitCheck):
         breaker_time_s: float = option(
             0.01, "from memory: half a cycle at 50 Hz, within which an energy-limiting breaker "
             "typically clears (our assumption; 0.1 s is the BS EN 60898-1 upper limit)",
-            "time assumed for a circuit-breaker in its instantaneous region (s)", above=0.0)
-        fuse_time_s: float = option(
-            0.4, "BS 7671:2018+A2:2022 Table 41.1: 0.4 s for 230 V final circuits",
-            "time assumed for a fuse (s)", above=0.0)
+            "time assumed for a circuit-breaker in its instantaneous region (s)",
+            above=0.0)
 
     def check_circuit(
         self, cert: Certificate, board: Board, circuit: Circuit
@@ -272,8 +316,7 @@ class CpcAdiabatic(CircuitCheck):
         if cpc is None:
             return None
         o = self.options
-        result = adiabatic(circuit, parse_device(circuit), o.u0_v, o.breaker_time_s,
-                           o.fuse_time_s)
+        result = adiabatic(circuit, parse_device(circuit), o.u0_v, o.breaker_time_s)
         if result is None:
             return None
         if cpc >= result.min_cpc_mm2 - 1e-9:
@@ -342,8 +385,8 @@ class CpcBelowTable547(CircuitCheck):
         if cpc >= minimum - 1e-9:
             return []
         defaults = CpcAdiabatic.Options()
-        if adiabatic(circuit, parse_device(circuit), defaults.u0_v, defaults.breaker_time_s,
-                     defaults.fuse_time_s) is not None:
+        if adiabatic(circuit, parse_device(circuit), defaults.u0_v,
+                     defaults.breaker_time_s) is not None:
             return []  # the adiabatic sum can be made: cpc-adiabatic decides
         return [
             self.make(

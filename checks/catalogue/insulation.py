@@ -22,13 +22,20 @@ def is_extra_low_voltage(circuit: Circuit) -> bool:
     return bool(_ELV_WORDS.search(circuit.text("description")))
 
 
-def table_64_minimum(test_voltage: float) -> float:
-    """Minimum insulation resistance in MΩ for a test voltage, BS 7671:2018+A2:2022 Table 64.
+def table_64_minimum(test_voltage: float, extra_low_voltage: bool = False) -> float:
+    """Minimum insulation resistance in MΩ, BS 7671:2018+A2:2022 Table 64.
 
-    250 V d.c. (SELV and PELV circuits): 0.5 MΩ; 500 V d.c. (circuits up to and including
-    500 V): 1 MΩ; 1000 V d.c. (circuits above 500 V): 1 MΩ.
+    SELV and PELV circuits (tested at 250 V d.c.): 0.5 MΩ; circuits up to and including
+    500 V (tested at 500 V d.c.): 1 MΩ; above 500 V (1000 V d.c.): 1 MΩ. A 230 V circuit
+    tested at 250 V because surge devices or equipment could not be disconnected
+    (Reg 643.3.3) still needs 1 MΩ: the 0.5 MΩ belongs to the SELV/PELV row, not to the
+    test voltage.
     """
-    return 0.5 if test_voltage <= 250 else 1.0
+    return 0.5 if extra_low_voltage and test_voltage <= 250 else 1.0
+
+
+def _minimum_for(circuit: Circuit, voltage: float) -> float:
+    return table_64_minimum(voltage, is_extra_low_voltage(circuit))
 
 
 def _ir_readings(circuit: Circuit) -> list[tuple[str, Value]]:
@@ -37,7 +44,7 @@ def _ir_readings(circuit: Circuit) -> list[tuple[str, Value]]:
     for name in IR_FIELDS:
         v = circuit.value(name)
         if v.kind in (ValueKind.NUMBER, ValueKind.LOWER_BOUND, ValueKind.UPPER_BOUND):
-            out.append((name, v))
+            out.append((name, v))  # a LOWER_BOUND may have no figure ("OL", "∞")
     return out
 
 
@@ -53,11 +60,12 @@ class InsulationBelowMinimum(CircuitCheck):
 
     What it checks:
     Each recorded insulation resistance (live-live and live-earth) against the minimum of
-    BS 7671 Table 64 for the recorded test voltage: 0.5 MΩ at 250 V (SELV/PELV), 1 MΩ at
-    500 V and at 1000 V. An over-range reading such as ">999" or ">200" is a pass (the true
-    value is above the bound), never taken as a number; an under-range reading such as
-    "<0.5" at or below the minimum fails. Where no test voltage is recorded, 500 V is
-    assumed (250 V for a circuit described as SELV/PELV).
+    BS 7671 Table 64: 0.5 MΩ for a SELV/PELV circuit (described as such) tested at 250 V,
+    1 MΩ for every other circuit, including a 230 V circuit tested at 250 V because surge
+    devices could not be disconnected (Reg 643.3.3). An over-range reading such as ">999",
+    ">200" or "OL" is a pass (the true value is above the bound), never taken as a number;
+    an under-range reading such as "<0.5" at or below the minimum fails. Where no test
+    voltage is recorded, 500 V is assumed (250 V for a circuit described as SELV/PELV).
 
     Why it matters:
     Insulation below the minimum means damaged or wet insulation, a neutral-earth fault or
@@ -68,16 +76,19 @@ class InsulationBelowMinimum(CircuitCheck):
     recorded without a note; the reading still fails as recorded, but the remark explains it.
 
     Failing example:
-    500 V test, live-earth 0.8 MΩ: below 1 MΩ.
+    500 V test, live-earth 0.8 MΩ: below 1 MΩ; "Sockets" tested at 250 V (SPD left
+    connected), live-earth 0.7 MΩ: still below 1 MΩ.
 
     Passing example:
-    500 V test, live-earth ">999" MΩ; live-live 1.5 MΩ.
+    500 V test, live-earth ">999" MΩ; live-live 1.5 MΩ; "SELV garden lights 12 V" at
+    250 V, 0.7 MΩ.
 
     Options:
     assumed_test_voltage: test voltage assumed when none is recorded (V).
 
     Reference:
-    BS 7671:2018+A2:2022 Reg 643.3 and Table 64 (250 V: 0.5 MΩ; 500 V: 1 MΩ; 1000 V: 1 MΩ).
+    BS 7671:2018+A2:2022 Reg 643.3, Reg 643.3.3 and Table 64 (SELV/PELV at 250 V: 0.5 MΩ;
+    up to 500 V at 500 V: 1 MΩ; above 500 V at 1000 V: 1 MΩ).
     """
 
     id = "ir-below-minimum"
@@ -103,12 +114,11 @@ class InsulationBelowMinimum(CircuitCheck):
             return None
         assumed = 250.0 if is_extra_low_voltage(circuit) else self.options.assumed_test_voltage
         voltage, recorded = _test_voltage(circuit, assumed)
-        minimum = table_64_minimum(voltage)
+        minimum = _minimum_for(circuit, voltage)
         found = []
         for name, v in readings:
-            assert v.number is not None
-            if v.kind is ValueKind.LOWER_BOUND:
-                continue  # ">999": above the bound, a pass whatever the bound is
+            if v.kind is ValueKind.LOWER_BOUND or v.number is None:
+                continue  # ">999", "OL": above the bound, a pass whatever the bound is
             if v.kind is ValueKind.UPPER_BOUND:
                 failing = v.number <= minimum + 1e-9
             else:
@@ -187,7 +197,7 @@ class InsulationWorthInvestigating(CircuitCheck):
             return None
         assumed = 250.0 if is_extra_low_voltage(circuit) else 500.0
         voltage, _ = _test_voltage(circuit, assumed)
-        minimum = table_64_minimum(voltage)
+        minimum = _minimum_for(circuit, voltage)
         level = self.options.investigate_below_mohm
         found = []
         for name, v in readings:

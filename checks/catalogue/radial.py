@@ -6,7 +6,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 
 from checks.base import CircuitCheck, fmt, option
-from checks.devices import CircuitKind, circuit_kind
+from checks.devices import CircuitKind, circuit_kind, ring_or_radial_unknown
 from checks.model import Finding, Severity
 from checks.registry import register
 from checks.tables import conductor_mohm_per_m
@@ -72,8 +72,8 @@ class RadialLengthPlausible(CircuitCheck):
     def check_circuit(
         self, cert: Certificate, board: Board, circuit: Circuit
     ) -> Iterable[Finding] | None:
-        if circuit_kind(circuit) is CircuitKind.RING:
-            return None
+        if circuit_kind(circuit) is CircuitKind.RING or ring_or_radial_unknown(circuit):
+            return None  # a ring, or a socket circuit that may be one (no ring readings)
         live, cpc = circuit.number("live_csa"), circuit.number("cpc_csa")
         r_live, r_cpc = conductor_mohm_per_m(live), conductor_mohm_per_m(cpc)
         r1r2, r2 = circuit.number("r1_r2"), circuit.number("r2_only")

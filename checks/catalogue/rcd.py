@@ -7,40 +7,57 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 
 from checks.base import CircuitCheck, fmt, option
-from checks.devices import DeviceFamily, is_ring, parse_device
+from checks.devices import (
+    RcdProtection,
+    is_ring,
+    might_be_ring,
+    rcd_protection,
+    serves_sockets,
+)
 from checks.model import Finding, Severity
 from checks.registry import register
 from extractor.records import Board, Certificate, Circuit, ValueKind
 
-_SOCKET_WORDS = re.compile(
-    r"\b(?:sockets?|skts?|s/?o|sos|socket[- ]outlets?|double sockets?)\b",
-    re.IGNORECASE,
-)
 _S_TYPE = re.compile(r"(?:^|[\s/,(-])s(?:$|[\s/,)-])|selective|time[- ]?delay", re.IGNORECASE)
 
 
 def is_socket_circuit(circuit: Circuit) -> bool:
     """A circuit serving socket-outlets: its description names sockets, or it is a ring."""
-    return bool(_SOCKET_WORDS.search(circuit.text("description"))) or is_ring(circuit)
+    return serves_sockets(circuit) or is_ring(circuit) or might_be_ring(circuit)
 
 
-def is_rcbo(circuit: Circuit) -> bool:
-    """The circuit's own device is an RCBO (BS EN 61009) or written as "RCBO"."""
-    if parse_device(circuit).family is DeviceFamily.RCBO:
-        return True
-    text = f"{circuit.text('device_standard')} {circuit.text('device_type')}".lower()
-    return "rcbo" in text
+def has_rcd(circuit: Circuit, board: Board | None = None) -> bool:
+    """An RCD protects the circuit (checks.devices.rcd_protection, the one definition)."""
+    return rcd_protection(circuit, board) is not None
 
 
-def has_rcd(circuit: Circuit) -> bool:
-    """Anything on the row says an RCD protects the circuit (IΔn, a trip time, an RCBO)."""
-    return (
-        circuit.number("rcd_idn") is not None
-        or circuit.number("rcd_time") is not None
-        or circuit.number("rcd_time_5x") is not None
-        or is_rcbo(circuit)
-        or parse_device(circuit).family is DeviceFamily.RCD
-    )
+def socket_rcd_gap(circuit: Circuit, board: Board | None, max_rating_a: float,
+                   max_idn_ma: float) -> str | None:
+    """Why a socket circuit lacks 30 mA additional protection, or None when it has it / n/a.
+
+    Pure logic, no severity: a check that must treat an older installation differently
+    (an observation on a periodic report rather than a breach) calls this and picks its own
+    severity (see ``RcdMissingForSockets.severity_for``).
+    """
+    if not is_socket_circuit(circuit):
+        return None
+    rating = circuit.number("rating")
+    if rating is not None and rating > max_rating_a + 1e-9:
+        return None
+    found: RcdProtection | None = rcd_protection(circuit, board)
+    if found is None:
+        return (
+            "Socket-outlet circuit shows no RCD protection (no IΔn, no RCBO, no trip time, "
+            f"no board RCD over its way); sockets up to {fmt(max_rating_a, 'A', 0)} need a "
+            f"{fmt(max_idn_ma, 'mA', 0)} RCD."
+        )
+    if found.idn_ma is not None and found.idn_ma > max_idn_ma + 1e-9:
+        where = "the board's RCD" if found.source == "board" else "an RCD"
+        return (
+            f"Socket-outlet circuit protected by {where} of IΔn {fmt(found.idn_ma, 'mA', 0)}; "
+            f"additional protection needs {fmt(max_idn_ma, 'mA', 0)} or less."
+        )
+    return ""  # protected: an RCD of 30 mA or less, or an RCBO / trip time with no IΔn
 
 
 def is_time_delayed(circuit: Circuit) -> bool:
@@ -64,8 +81,9 @@ class RcdMissingForSockets(CircuitCheck):
     overcurrent device between them and a lethal shock.
 
     Known false alarms:
-    An RCD upstream (an RCD main switch or a split-load RCD) recorded on its own row or on
-    the board rather than on each circuit row; a documented risk assessment for sockets in
+    An RCD upstream (an RCD main switch or a split-load RCD) recorded on its own row rather
+    than on each circuit row or in the board's RCD fields (board_rcd_idn, board_rcd_ways,
+    which are read); a documented risk assessment for sockets in
     a non-domestic installation (allowed by the exception to Reg 411.3.3); installations
     built to an earlier edition, where a periodic report records this as an observation
     rather than a failure.
@@ -105,31 +123,20 @@ class RcdMissingForSockets(CircuitCheck):
             "largest RCD IΔn (mA) that counts as additional protection",
         )
 
+    def severity_for(self, cert: Certificate, board: Board, circuit: Circuit) -> Severity:
+        """The severity of a finding on this circuit: the hook for report-type awareness
+        (an older installation on a periodic report). Here: the configured severity."""
+        return self.effective_severity
+
     def check_circuit(
         self, cert: Certificate, board: Board, circuit: Circuit
     ) -> Iterable[Finding] | None:
-        if not is_socket_circuit(circuit):
-            return None
-        rating = circuit.number("rating")
-        if rating is not None and rating > self.options.max_rating_a + 1e-9:
-            return None
-        idn = circuit.number("rcd_idn")
         limit = self.options.max_idn_ma
-        if idn is not None:
-            if idn <= limit + 1e-9:
-                return []
-            message = (
-                f"Socket-outlet circuit protected by an RCD of IΔn {fmt(idn, 'mA', 0)}; "
-                f"additional protection needs {fmt(limit, 'mA', 0)} or less."
-            )
-        elif has_rcd(circuit):
-            return []  # an RCBO or a recorded trip time with no IΔn: given the benefit
-        else:
-            message = (
-                "Socket-outlet circuit shows no RCD protection (no IΔn, no RCBO, no trip "
-                f"time); sockets up to {fmt(self.options.max_rating_a, 'A', 0)} need a "
-                f"{fmt(limit, 'mA', 0)} RCD."
-            )
+        message = socket_rcd_gap(circuit, board, self.options.max_rating_a, limit)
+        if message is None:
+            return None
+        if not message:
+            return []
         return [
             self.make(
                 cert,
@@ -138,6 +145,7 @@ class RcdMissingForSockets(CircuitCheck):
                 circuit=circuit,
                 field="rcd_idn",
                 expected=f"≤ {fmt(limit, 'mA', 0)}",
+                severity=self.severity_for(cert, board, circuit),
             )
         ]
 
@@ -154,6 +162,18 @@ def _rcd_time_findings(check: CircuitCheck, cert: Certificate, board: Board,
                        general: tuple[float, float], delayed: tuple[float, float]
                        ) -> list[Finding] | None:
     v = circuit.value(field)
+    if v.kind is ValueKind.NOT_CONFIRMED:  # "NT", "No trip": the RCD did not trip at all
+        return [
+            check.make(
+                cert,
+                f"RCD trip time {what} recorded as {v.display()}: the RCD did not trip, "
+                "so it has failed its test.",
+                board=board,
+                circuit=circuit,
+                field=field,
+                expected="a trip time within the limit",
+            )
+        ]
     if v.kind not in (ValueKind.NUMBER, ValueKind.LOWER_BOUND) or v.number is None:
         return None  # "<40" (an upper bound) is within any limit it is written against
     low, high, kind = _time_limits(circuit, general, delayed)
@@ -352,7 +372,7 @@ class RcdButtonNotConfirmed(CircuitCheck):
     def check_circuit(
         self, cert: Certificate, board: Board, circuit: Circuit
     ) -> Iterable[Finding] | None:
-        if not has_rcd(circuit):
+        if not has_rcd(circuit, board):
             return None
         if not any("rcd_button" in c.cells for c in board.circuits):
             return None  # this form has no test-button column

@@ -8,6 +8,7 @@ from dataclasses import dataclass
 from typing import ClassVar
 
 from checks.base import CircuitCheck, fmt, option
+from checks.devices import ring_or_radial_unknown
 from checks.model import Finding, Severity
 from checks.registry import register
 from checks.tables import conductor_mohm_per_m
@@ -469,7 +470,9 @@ class RingReadingsMissing(CircuitCheck):
 
     What it checks:
     On a circuit whose description (or type of wiring) names a ring ("Sockets ring",
-    "RFC kitchen", "ring main"), that r1, rn and r2 are all recorded as readings. Blank,
+    "RFC kitchen", "ring main"), or a socket circuit of 2.5 mm² on 30/32 A that the form
+    does not call a radial (normally a ring: whether it is one cannot be told, and the
+    finding says so), that r1, rn and r2 are all recorded as readings. Blank,
     dash, N/A, unreadable, or LIM with no limitation written on the certificate or in the
     circuit's remarks, are reported.
 
@@ -485,7 +488,8 @@ class RingReadingsMissing(CircuitCheck):
     "Kitchen ring", r1 = 0.45 Ω, rn = N/A, r2 = blank.
 
     Passing example:
-    "Kitchen ring", r1 = 0.45 Ω, rn = 0.46 Ω, r2 = 0.74 Ω.
+    "Kitchen ring", r1 = 0.45 Ω, rn = 0.46 Ω, r2 = 0.74 Ω; "Kitchen sockets" 2.5 mm² B32
+    with r1/rn/r2 LIM and a limitation recorded.
 
     Options:
     accept_lim_with_limitation: LIM is accepted where a limitation is written.
@@ -513,7 +517,8 @@ class RingReadingsMissing(CircuitCheck):
         self, cert: Certificate, board: Board, circuit: Circuit
     ) -> Iterable[Finding] | None:
         said = f"{circuit.text('description')} {circuit.text('wiring_type')}".lower()
-        if not _RING_TEXT.search(said):
+        unknown = not _RING_TEXT.search(said) and ring_or_radial_unknown(circuit)
+        if not _RING_TEXT.search(said) and not unknown:
             return None
         has_limitation = bool(cert.text("limitations") or circuit.text("remarks"))
         missing: list[str] = []
@@ -531,10 +536,13 @@ class RingReadingsMissing(CircuitCheck):
         if not missing:
             return []
         first = missing[0].split()[0]
+        what = ("Socket circuit that may be a ring (2.5 mm² on 30/32 A, not said to be a "
+                "radial): ring or radial cannot be told, and it" if unknown
+                else "Circuit described as a ring")
         return [
             self.make(
                 cert,
-                f"Circuit described as a ring has no end-to-end reading for "
+                f"{what} has no end-to-end reading for "
                 f"{', '.join(missing)}; the ring's continuity is not proven.",
                 board=board,
                 circuit=circuit,

@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+import re
 from collections.abc import Iterable
 from dataclasses import dataclass
 
 from checks.base import CertificateCheck, CircuitCheck, fmt, option
 from checks.catalogue.loop import earthing_of, origin_ze
+from checks.devices import parse_device
 from checks.model import Finding, Severity
 from checks.registry import register
 from checks.tables import declared_ze
@@ -115,8 +117,10 @@ class IpfConsistentWithZe(CertificateCheck):
     For the origin (certificate Ze and Ipf) and for each board with its own Ze and Ipf, the
     ratio of the recorded Ipf to the earth fault current U0 / Ze: below min_ratio is
     reported on any system; above max_ratio on TN-C-S (where the short-circuit and earth
-    fault loops are nearly the same). On TN-S and TT the short-circuit current may be far
-    higher than U0 / Ze, so only the lower side is checked.
+    fault loops are nearly the same). On TN-S the short-circuit current may be higher than
+    U0 / Ze, so the upper side is checked only for a declared round figure (16 kA by
+    default): recorded where the measured Ze implies a fraction of it, on any TN system,
+    it is asked whether Ipf was measured or taken by enquiry. TT: lower side only.
 
     Why it matters:
     Ipf is the larger of the short-circuit and earth fault currents, so it cannot be much
@@ -128,15 +132,16 @@ class IpfConsistentWithZe(CertificateCheck):
     Ze and Ipf measured at different times of day.
 
     Failing example:
-    TN-C-S, Ze = 0.25 Ω (920 A), Ipf = 0.3 kA.
+    TN-C-S, Ze = 0.25 Ω (920 A), Ipf = 0.3 kA; TN-S, Ze = 0.45 Ω (0.51 kA), Ipf "16 kA".
 
     Passing example:
-    TN-C-S, Ze = 0.25 Ω, Ipf = 0.92 kA.
+    TN-C-S, Ze = 0.25 Ω, Ipf = 0.92 kA; TN-S, Ze = 0.45 Ω, Ipf = 0.9 kA.
 
     Options:
     u0_v: nominal voltage to earth.
     min_ratio: smallest accepted Ipf / (U0/Ze).
-    max_ratio: largest accepted Ipf / (U0/Ze) on TN-C-S.
+    max_ratio: largest accepted Ipf / (U0/Ze) on TN-C-S, and for a declared figure on TN-S.
+    declared_figures_ka: round figures network operators declare (comma-separated kA).
 
     Reference:
     BS 7671:2018+A2:2022 Reg 643.7.3.201 (prospective fault current, from memory); ratios:
@@ -165,6 +170,9 @@ class IpfConsistentWithZe(CertificateCheck):
         max_ratio: float = option(
             2.0, "common practice, no source", "largest Ipf / (U0/Ze) on TN-C-S", above=0.0
         )
+        declared_figures_ka: str = option(
+            "16", "common practice, no source: the 16 kA network operators declare for a "
+            "single-phase supply", "declared round figures (kA) queried when Ze implies less")
 
     def check_certificate(self, cert: Certificate) -> Iterable[Finding] | None:
         pairs: list[tuple[Board | None, float | None, float | None]] = [
@@ -181,16 +189,21 @@ class IpfConsistentWithZe(CertificateCheck):
             pefc = o.u0_v / ze / 1000
             ratio = ipf / pefc
             earthing = earthing_of(cert, board)
+            declared = [float(x) for x in o.declared_figures_ka.split(",") if x.strip()]
+            is_declared = any(abs(ipf - d) < 1e-6 for d in declared)
             too_low = ratio < o.min_ratio
-            too_high = earthing == "TN-C-S" and ratio > o.max_ratio
+            too_high = ratio > o.max_ratio and (
+                earthing == "TN-C-S" or (earthing in ("TN-S", "TN-C") and is_declared))
             if not (too_low or too_high):
                 continue
             where = f"board {board.ref}" if board else "the origin"
+            why = ("; was it measured, or is it the declared figure taken by enquiry?"
+                   if too_high and is_declared else "; one of the two is wrong.")
             found.append(
                 self.make(
                     cert,
                     f"Ipf {ipf:.2f} kA at {where} is {ratio:.1f} × the {pefc:.2f} kA that Ze "
-                    f"{fmt(ze, 'Ω')} gives at {o.u0_v:g} V; one of the two is wrong.",
+                    f"{fmt(ze, 'Ω')} gives at {o.u0_v:g} V{why}",
                     board=board,
                     field="ipf",
                     expected=f"{pefc * o.min_ratio:.2f}–{pefc * o.max_ratio:.2f} kA"
@@ -198,6 +211,18 @@ class IpfConsistentWithZe(CertificateCheck):
                 )
             )
         return found if applied else None
+
+
+_NOT_CONSUMER_UNIT = re.compile(
+    r"three[- ]phase|3[- ]?ph|\btp\s*&?\s*n\b|\btpn\b|panel\s*board|switch\s*board|"
+    r"\bmcc\b|400\s*v", re.IGNORECASE)
+
+
+def is_consumer_unit(board: Board) -> bool:
+    """A single-phase board of the consumer-unit kind: any board not described as three-phase,
+    a panel board or a switchboard (common practice, no source)."""
+    said = " ".join(board.text(f) for f in ("board_ref", "location", "supplied_from"))
+    return not _NOT_CONSUMER_UNIT.search(said)
 
 
 @register
@@ -212,25 +237,34 @@ class IpfOverBreakingCapacity(CircuitCheck):
     A device asked to break more current than it is rated for can fail to clear the fault
     or be destroyed doing so, with arcing and fire inside the board.
 
+    Circuit-breakers and RCBOs in a consumer unit (any board not described as a
+    three-phase or panel board) are accepted up to the unit's conditional short-circuit
+    rating, 16 kA by default: a consumer unit to BS EN 61439-3 fed through a BS 88-3 fuse of
+    100 A or less is rated for 16 kA as an assembly (Reg 536.4.201, BS EN 61439-3 annex ZB
+    as commonly applied), so its 6 kA devices under a declared 16 kA are not a breach.
+    Set strict to judge every device by its own marking.
+
     Known false alarms:
-    BS EN 60898 circuit-breakers in a consumer unit to BS EN 61439-3 may rely on the
-    upstream BS 88-3 fuse (100 A or less) for a conditional short-circuit rating up to
-    16 kA (from memory): a 6 kA device on a 7 kA supply can then be acceptable. Set
-    conditional_rating_ka to 16 to accept those.
+    A consumer unit not type-tested to BS EN 61439-3, or fed by a larger or different
+    upstream device, has no conditional rating: turn strict on where that is known.
 
     Failing example:
-    Ipf = 7.2 kA, breaking capacity 6 kA.
+    Ipf = 7.2 kA, breaking capacity 6 kA, strict; "Three-phase panel board", Ipf 20 kA,
+    10 kA devices.
 
     Passing example:
-    Ipf = 1.4 kA, breaking capacity 6 kA.
+    Ipf = 1.4 kA, breaking capacity 6 kA; consumer unit, declared Ipf 16 kA, 6 kA devices.
 
     Options:
-    conditional_rating_ka: accept Ipf up to this (0 = off), for devices in assemblies with a
-    conditional short-circuit rating.
+    conditional_rating_ka: accept Ipf up to this for devices in a consumer unit with a
+    conditional short-circuit rating (0 = off).
+    strict: judge every device by its own breaking capacity (no conditional rating).
 
     Reference:
     BS 7671:2018+A2:2022 Reg 434.5.1 (breaking capacity not less than the prospective fault
-    current, from memory); BS EN 61439-3 conditional rating, from memory.
+    current, from memory) and Reg 536.4.201 (conditional rating of consumer units, from
+    memory); BS EN 61439-3 annex ZB (16 kA conditional rating with an upstream BS 88-3
+    fuse up to 100 A, as commonly applied; from memory).
     """
 
     id = "ipf-over-breaking-capacity"
@@ -243,9 +277,14 @@ class IpfOverBreakingCapacity(CircuitCheck):
     @dataclass(frozen=True)
     class Options:
         conditional_rating_ka: float = option(
-            0.0,
-            "BS EN 61439-3 conditional short-circuit rating, commonly 16 kA (from memory)",
-            "accept Ipf up to this many kA where the assembly is conditionally rated; 0 = off",
+            16.0,
+            "BS 7671:2018+A2:2022 Reg 536.4.201; BS EN 61439-3 annex ZB conditional "
+            "short-circuit rating, 16 kA as commonly applied (from memory)",
+            "accept Ipf up to this many kA in a conditionally rated consumer unit; 0 = off",
+        )
+        strict: bool = option(
+            False, "common practice, no source",
+            "judge every device by its own breaking capacity, no conditional rating",
         )
 
     def check_circuit(
@@ -261,7 +300,9 @@ class IpfOverBreakingCapacity(CircuitCheck):
             return None
         if ipf <= capacity + 1e-9:
             return []
-        if self.options.conditional_rating_ka > 0 and ipf <= self.options.conditional_rating_ka:
+        o = self.options
+        if (not o.strict and 0 < ipf <= o.conditional_rating_ka + 1e-9
+                and parse_device(circuit).is_breaker and is_consumer_unit(board)):
             return []
         return [
             self.make(

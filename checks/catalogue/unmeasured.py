@@ -13,8 +13,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 
 from checks.base import BoardCheck, CertificateCheck, fmt, option
-from checks.catalogue.rcd import is_rcbo
-from checks.devices import circuit_kind, is_ring
+from checks.devices import circuit_kind, is_rcbo, is_ring
 from checks.model import Finding, Severity
 from checks.registry import register
 from extractor.records import Board, Certificate, Circuit, Value
@@ -358,13 +357,21 @@ def chi_square_sf(x: float, df: int) -> float:
     return math.erfc(math.sqrt(x / 2)) + math.sqrt(2 / math.pi) * math.exp(-x / 2) * total
 
 
-def last_digits(cert: Certificate, fields: Iterable[str]) -> list[int]:
-    """The digit at each field's fixed place, for every plain reading on the certificate."""
+def last_digits(cert: Certificate, fields: Iterable[str],
+                coarse_above_ohm: float = 20.0) -> list[int]:
+    """The digit at each field's fixed place, for every plain reading on the certificate.
+
+    Readings in ohms above coarse_above_ohm are left out: a loop tester shows them on a
+    coarser range (0.1 Ω or 1 Ω, checks/data/loop_resolution.csv), so their hundredths are
+    always 0 (TT Zs of 145 Ω) and say nothing about how they were written.
+    """
     digits = []
     for _, c in cert.circuits():
         for name in fields:
             x = c.number(name)
             if x is None:
+                continue
+            if c.value(name).unit == "Ω" and x > coarse_above_ohm:
                 continue
             place = _DIGIT_PLACE.get(name, 2)
             digits.append(int(round(x * 10**place)) % 10)
@@ -378,7 +385,8 @@ class LastDigitPreference(CertificateCheck):
     What it checks:
     The last digit of every plain reading on the certificate in the option's fields
     (hundredths of an ohm for r1, r2, R1+R2, R2 and Zs; whole milliseconds for RCD
-    times). With at least the minimum sample, a chi-square test of uniformity over the
+    times); readings above 20 Ω (TT loop readings, shown by the tester in 0.1 Ω or 1 Ω
+    steps) are left out. With at least the minimum sample, a chi-square test of uniformity over the
     ten digits (9 degrees of freedom) is made; a p-value below the significance level α
     is queried. The false-alarm rate on genuinely measured readings is α: with the
     default α = 0.001, about one honest certificate in a thousand is queried.
@@ -405,6 +413,7 @@ class LastDigitPreference(CertificateCheck):
     alpha: significance level (the false-alarm rate on honest readings).
     min_digits: fewest readings before the test is made.
     fields: comma-separated circuit fields whose readings are tested.
+    coarse_above_ohm: readings in ohms above this are left out (coarse tester range).
 
     Reference:
     Common practice, no source (digit-preference screening); chi-square tail probability
@@ -431,10 +440,14 @@ class LastDigitPreference(CertificateCheck):
                              "common practice, no source",
                              "comma-separated circuit fields whose readings are tested",
                              names="circuit")
+        coarse_above_ohm: float = option(
+            20.0, "from memory: loop testers change to a 0.1 Ω range above 20 Ω "
+            "(checks/data/loop_resolution.csv)",
+            "readings in ohms above this are shown coarsely and left out")
 
     def check_certificate(self, cert: Certificate) -> Iterable[Finding] | None:
         names = [f.strip() for f in self.options.fields.split(",") if f.strip()]
-        digits = last_digits(cert, names)
+        digits = last_digits(cert, names, self.options.coarse_above_ohm)
         n = len(digits)
         if n < self.options.min_digits:
             return None
