@@ -1,14 +1,15 @@
 """Layout patterns that cannot hang: Python `re` where backtracking is harmless, RE2 (linear
 time, the `google-re2` package) where it is not.
 
-A pattern is "at risk" when its parse tree repeats something that itself repeats or branches
-(`(a+)+`, `(a|ab)*`, `(\\s*x?)*`) or holds more than `MAX_FREE_REPEATS` unbounded repeats
-(polynomial blow-up): on a line of PDF text Python's backtracking engine can then run for
-ever. Such a pattern is compiled with RE2, which matches in time linear in the text. RE2 has
-no look-around and no back-references, and its `\\d`, `\\s`, `\\w` and `\\b` are ASCII; a
-pattern at risk that needs those features is refused (`UnsafePattern`), as is any pattern at
-risk when RE2 is not installed. Patterns not at risk, which are nearly all layout patterns,
-keep Python's `re` (and its speed and Unicode classes).
+A pattern is at exponential risk when its parse tree repeats something that itself repeats
+or branches (`(a+)+`, `(a|ab)*`, `(\\s*x?)*`): on a line of PDF text Python's backtracking
+engine can then run for ever. It is compiled with RE2, which matches in time linear in the
+text. RE2 has no look-around and no back-references, and its `\\d`, `\\s`, `\\w` and `\\b` are
+ASCII; such a pattern that needs those features is refused (`UnsafePattern`), as is any when
+RE2 is not installed. A pattern with more than `MAX_FREE_REPEATS` unbounded repeats is at
+polynomial risk only (slow, never endless, on lines of text): RE2 runs it when it can, else
+Python's engine does (within the per-file time limit of audit and batch). Patterns not at
+risk, which are nearly all layout patterns, keep Python's `re` (its speed, Unicode classes).
 """
 
 from __future__ import annotations
@@ -63,10 +64,12 @@ def _walk(items: Any, inside_repeat: bool, free: list[int]) -> bool:
     return False
 
 
-def backtracking_risk(text: str, flags: int = 0) -> bool:
-    """Could Python's engine take exponential (or high polynomial) time on this pattern?"""
+def backtracking_risk(text: str, flags: int = 0) -> str | None:
+    """"exponential", "polynomial" or None: what Python's engine could take on this pattern."""
     free = [0]
-    return _walk(_sre.parse(text, flags), False, free) or free[0] > MAX_FREE_REPEATS
+    if _walk(_sre.parse(text, flags), False, free):
+        return "exponential"
+    return "polynomial" if free[0] > MAX_FREE_REPEATS else None
 
 
 class _Re2Match:
@@ -139,11 +142,14 @@ def compile_pattern(text: str, flags: int = 0) -> re.Pattern[str]:
     cannot run. The result is typed as `re.Pattern`: an RE2 pattern offers the same search,
     match, fullmatch, finditer, group, span, pattern, flags and groupindex."""
     compiled = re.compile(text, flags)
-    if not backtracking_risk(text, flags):
+    risk = backtracking_risk(text, flags)
+    if risk is None:
         return compiled
     try:
         import re2
     except ImportError:
+        if risk == "polynomial":
+            return compiled
         raise UnsafePattern(
             "repeats a repeated or alternative part, which can take exponential time, and the "
             "linear-time engine (the google-re2 package) is not installed"
@@ -154,6 +160,8 @@ def compile_pattern(text: str, flags: int = 0) -> re.Pattern[str]:
     try:
         rx = re2.compile(text, options)
     except re2.error:
+        if risk == "polynomial":
+            return compiled
         raise UnsafePattern(
             "repeats a repeated or alternative part, which can take exponential time, and uses "
             "a feature the linear-time engine lacks (look-around or back-reference): simplify it"

@@ -298,3 +298,25 @@ def test_an_oversized_layout_is_refused_in_one_line(tmp_path: Path) -> None:
     with pytest.raises(LayoutError) as info:
         load_layout(big)
     assert str(info.value).startswith(f"{big}: file too large")
+
+
+# --- large inputs ----------------------------------------------------------------------------
+
+
+@pytest.mark.slow
+def test_a_huge_schedule_gives_a_bounded_usable_report(tmp_path: Path) -> None:
+    """6,600 rows in one board (its heading pattern never matched): flagged as a problem, and
+    the HTML report lists every circuit with a finding but not all 6,600 rows, says how many
+    it left out, and stays a few MB (it was hundreds)."""
+    from reports.model import SHOWN_ROWS
+
+    layout = load_layout(HOSTILE / "layouts" / "hostile-grid.toml")
+    result = audit_file(HOSTILE / "three-hundred-pages-board-heading-missed.pdf", layout=layout,
+                        out_dir=tmp_path, formats=("html",), engine="pdfium")
+    assert result.verdict.key is not VerdictKey.NO_CONCERNS and not result.verdict.complete
+    html = result.outputs["html"].read_text(encoding="utf-8")
+    rows = html.count("<tr data-circuit=")
+    assert 0 < rows <= SHOWN_ROWS
+    assert "without findings not shown" in html
+    assert "has 6600 rows, more than a board plausibly holds" in html
+    print(f"HTML report for 6,600 circuits: {len(html.encode()) / 1e6:.1f} MB, {rows} rows shown")
