@@ -333,23 +333,21 @@ def _finding_views(
 
 
 def _shown_rows(boards: list[BoardView]) -> list[BoardView]:
-    """At most SHOWN_ROWS schedule rows in all: every row with a finding first (in order), then
-    the others in order while room remains; each board says how many it left out."""
+    """At most SHOWN_ROWS schedule rows in all: rows with a finding first, then the others,
+    each board keeping its own order; each board says how many it left out."""
     total = sum(len(b.rows) for b in boards)
     if total <= SHOWN_ROWS:
         return boards
-    room = SHOWN_ROWS - sum(1 for b in boards for r in b.rows if r.severity or r.circuit_notes)
-    out = []
-    for b in boards:
-        keep = []
-        for r in b.rows:
-            if r.severity or r.circuit_notes:
-                keep.append(r)
-            elif room > 0:
-                keep.append(r)
-                room -= 1
-        out.append(replace(b, rows=keep, hidden=len(b.rows) - len(keep)))
-    return out
+    flagged = [(k, i) for k, b in enumerate(boards) for i, r in enumerate(b.rows)
+               if r.severity or r.circuit_notes]
+    plain = [(k, i) for k, b in enumerate(boards) for i, r in enumerate(b.rows)
+             if not (r.severity or r.circuit_notes)]
+    keep = set((flagged + plain)[:SHOWN_ROWS])
+    return [
+        replace(b, rows=[r for i, r in enumerate(b.rows) if (k, i) in keep],
+                hidden=sum(1 for i in range(len(b.rows)) if (k, i) not in keep))
+        for k, b in enumerate(boards)
+    ]
 
 
 def _questioned(
