@@ -21,23 +21,27 @@ How a run goes:
    already stored, and a re-run skips it (nothing is stored twice). A file whose reports
    could not be written (``ReportWriteError``: the output folder, not the PDF) is failed for
    this run but not stored, so the next run audits it again.
-5. After the files: the cross-certificate checks of corpus.crosscheck (copied
-   schedules, repeats at an address, reused numbers, workload) for every certificate of this
-   batch's inputs — audited now or earlier, so a resumed run reports what one uninterrupted
-   run would — become findings of the batch (``cross-findings.csv`` / ``.json``). The HTML and
-   JSON reports of every certificate with such a finding are re-written with them (section
-   "Compared with other certificates", a line in the verdict box, a link to the other
+5. After the files: the cross-certificate checks (declared in checks/catalogue/across.py, run
+   by corpus.crosscheck.run_cross_checks: copied schedules, repeats at an address, reused
+   numbers, workload) for every certificate of this batch's inputs — audited now or earlier,
+   so a resumed run reports what one uninterrupted run would — and every certificate a copy
+   links them to. They are stored in the findings table (stage ``corpus``) and written to
+   ``cross-findings.csv`` / ``.json``. They count like any finding: each certificate with one
+   gets its verdict decided again (a copy's verdict is "readings copied", on both
+   certificates, naming the other and the likely source), stored, and its HTML, JSON and
+   findings CSV re-written (section "Compared with other certificates", a link to the other
    certificate's report): the certificate, findings, check runs and the rule profile it was
    audited with come back from the store, so a certificate skipped in this run whose reports
-   are in ``out_dir/certificates`` gains the section too (``rewrite_related_reports``). Then
-   the portfolio page is written (``out_dir/portfolio.html``).
+   are in ``out_dir/certificates`` is covered too (``rewrite_related_reports``). Then the
+   portfolio page is written (``out_dir/portfolio.html``).
 
 Every input ends in exactly one of ``audited``, ``skipped`` or ``failed`` (with a one-line
 reason naming the file): ``len(report.outcomes) == len(inputs)``.
 
 Exit status (``BatchReport.exit_code``, as ``certvet audit``): 3 when any input is failed (now,
-or skipped because it failed before); else 1 when any certificate of the batch has a breach or
-impossible finding; else 0. Cross-certificate findings are queries: they never change it.
+or skipped because it failed before); else 1 when any certificate of the batch has a counted
+finding at a ``fail_on`` severity (default breach and impossible; ``--fail-on``), per
+certificate or across certificates (a copied schedule is "impossible"); else 0.
 """
 
 from __future__ import annotations
@@ -50,21 +54,27 @@ from enum import StrEnum
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from certvet.exitcodes import EXIT_CLEAN, EXIT_FAILED, EXIT_FINDINGS
+from certvet.exitcodes import DEFAULT_FAIL_ON as DEFAULT_FAIL_ON_TEXT
+from certvet.exitcodes import EXIT_CLEAN, EXIT_FAILED, EXIT_FINDINGS, parse_fail_on
 from certvet.workers import Limits, Outcome, run_isolated
+from checks.model import Severity
 from checks.profile import DEFAULT_PROFILE, Profile
 from extractor.errors import InputError
 from extractor.layout import Layout
 from extractor.untrusted import one_line
+from reports.verdict import NOT_AUDITED
 
 if TYPE_CHECKING:
     from certvet.api import AuditResult
+    from checks.model import Finding
     from corpus.crosscheck import CrossFinding
     from corpus.store import Corpus
     from reports.portfolio import PortfolioData
+    from reports.verdict import Verdict
 
 __all__ = ["BatchReport", "FileOutcome", "Status", "run_batch", "write_portfolio"]
 
+DEFAULT_FAIL_ON: frozenset[Severity] = parse_fail_on(DEFAULT_FAIL_ON_TEXT)
 REPORTS_SUBDIR = "certificates"
 # readings an inspector measures (last-digit chart); ratings, sizes and test voltages are not
 MEASURED_FIELDS = frozenset({"r1", "rn", "r2", "r1_r2", "r1_rn", "r2_only", "ir_live_live",
@@ -89,7 +99,7 @@ class FileOutcome:
     certificate: str | None = None  # certificate name (number, or file name)
     verdict: str | None = None  # verdict headline, when audited in this run
     findings: int = 0  # counted (non-preview) findings, when audited in this run
-    breach: bool = False  # a breach or impossible finding (now or stored earlier)
+    breach: bool = False  # a counted finding at a fail-on severity (now or stored earlier)
     previously_failed: bool = False  # skipped, and the stored outcome is a failure
     reports: dict[str, Path] = field(default_factory=dict)
 
@@ -100,7 +110,13 @@ class FileOutcome:
                             f"findings, layout {self.layout})")
         if self.status is Status.SKIPPED:
             return one_line(f"{'SKIPPED':<22} {self.reason}")
-        return one_line(f"{'FAILED':<22} {self.reason}")
+        return one_line(f"{NOT_AUDITED.upper():<22} {self.reason}")
+
+    def verdict_line(self) -> str:
+        """The line of a certificate whose verdict the comparison with other certificates
+        decided again (audited in this run or before)."""
+        return one_line(f"{(self.verdict or '').upper():<22} {self.path}  ({self.findings} "
+                        "findings, after comparing with other certificates)")
 
 
 @dataclass
@@ -110,8 +126,11 @@ class BatchReport:
     outcomes: list[FileOutcome] = field(default_factory=list)
     cross_findings: list[CrossFinding] = field(default_factory=list)
     portfolio: Path | None = None
-    # certificate reports re-written with their cross-certificate findings (html and json)
+    # certificate reports re-written with their cross-certificate findings (html, json, csv)
     related_reports: list[Path] = field(default_factory=list)
+    # outcomes whose verdict the cross-certificate findings changed (their final state)
+    decided_again: list[FileOutcome] = field(default_factory=list)
+    output_errors: list[str] = field(default_factory=list)  # one line per unwritable output
 
     def count(self, status: Status) -> int:
         return sum(1 for o in self.outcomes if o.status is status)
@@ -140,7 +159,8 @@ class BatchReport:
 
     @property
     def exit_code(self) -> int:
-        if any(o.status is Status.FAILED or o.previously_failed for o in self.outcomes):
+        if self.output_errors or any(o.status is Status.FAILED or o.previously_failed
+                                     for o in self.outcomes):
             return EXIT_FAILED
         return EXIT_FINDINGS if any(o.breach for o in self.outcomes) else EXIT_CLEAN
 
@@ -154,8 +174,14 @@ class BatchReport:
 
         reports = {o.sha256: o.reports["html"] for o in self.outcomes
                    if o.sha256 and "html" in o.reports}
-        failures = [(str(o.path), o.reason or "") for o in self.failed]
         with Corpus(self.store) as corpus:
+            stored = {f.sha256: f for f in corpus.files() if f.status == "failed"}
+            # what could not be audited: failed now, or failed in an earlier run (from the
+            # store), each with its reason
+            failures = [(str(o.path), o.reason or "") for o in self.failed
+                        if not (o.sha256 and o.sha256 in stored)]
+            failures += [(str(o.path), _reason_only(stored[o.sha256].failure_reason))
+                         for o in self.outcomes if o.sha256 in stored]
             return collect_portfolio(corpus, shas=set(self.shas), reports=reports,
                                      failures=failures, reports_dir=self._reports_dir(),
                                      cross=self.cross_findings, title="Batch portfolio")
@@ -170,14 +196,6 @@ class BatchReport:
 def report_stem(source: Path, sha256: str) -> str:
     """File stem of a certificate's own reports: unique even for equal names in subfolders."""
     return f"{source.stem}-{sha256[:8]}"
-
-
-def write_certificate_reports(result: AuditResult, out_dir: Path, profile: Profile
-                              ) -> dict[str, Path]:
-    from certvet.api import write_reports
-
-    stem = report_stem(result.source, result.certificate.sha256)
-    return write_reports(result, out_dir, ("html", "json", "csv"), profile, stem)
 
 
 @dataclass(frozen=True)
@@ -200,8 +218,16 @@ class AuditJob:
         result = audit_file(path, layouts=self.layouts, profile=self.profile, out_dir=None,
                             engine=self.engine, password=self.password)
         if self.reports_dir is not None:
-            result.outputs = write_certificate_reports(result, self.reports_dir, self.profile)
+            result.outputs = self.write_reports(result, self.reports_dir)
         return result
+
+    def write_reports(self, result: AuditResult, out_dir: Path) -> dict[str, Path]:
+        """The certificate's own reports (html, json, csv) as `<stem>-<sha8>.*` in out_dir
+        (also called by a Dask worker, certvet/distributed.py, with the job it was given)."""
+        from certvet.api import write_reports
+
+        stem = report_stem(result.source, result.certificate.sha256)
+        return write_reports(result, out_dir, ("html", "json", "csv"), self.profile, stem)
 
 
 # --- the run --------------------------------------------------------------------------------
@@ -248,6 +274,7 @@ def run_batch(
     scheduler: str | None = None,
     portfolio: bool = True,
     on_start: Callable[[int], None] | None = None,
+    fail_on: frozenset[Severity] = DEFAULT_FAIL_ON,
 ) -> BatchReport:
     """Audit every input into the store; see the module docstring. Never raises for a bad
     file; raises CorpusError (one line) when the store itself cannot be used."""
@@ -266,11 +293,9 @@ def run_batch(
         if on_event:
             on_event(o)
 
-    with Corpus(store) as corpus:
+    with Corpus(store) as corpus, corpus.lock():
         stored = {f.sha256: f for f in corpus.files()}
-        breach_shas = {r[0] for r in corpus.conn.execute(
-            "SELECT c.sha256 FROM certificates c JOIN findings f ON f.cert_id = c.id "
-            "WHERE f.severity >= 3 AND f.preview = 0")}
+        breach_shas = corpus.shas_with_findings(fail_on)
         todo: list[Path] = []
         sha_of: dict[Path, str] = {}
         first_with: dict[str, Path] = {}
@@ -288,7 +313,7 @@ def run_batch(
             row = stored.get(sha)
             if row is not None and not (retry_failed and row.status == "failed"):
                 failed_before = row.status == "failed"
-                what = (f"failed before ({_reason_only(row.failure_reason)}); "
+                what = (f"{NOT_AUDITED} before ({_reason_only(row.failure_reason)}); "
                         "--retry-failed runs it again" if failed_before
                         else f"already audited ({row.audited_at}, layout {row.layout})")
                 emit(FileOutcome(path, Status.SKIPPED, sha, reason=_one_line(f"{path}: {what}"),
@@ -310,18 +335,73 @@ def run_batch(
                 warm_up(layouts, engine)
             outcomes = run_isolated(todo, job, workers=workers, limits=limits or Limits())
         for oc in outcomes:
-            emit(_store_outcome(corpus, oc, sha_of[oc.path]))
+            emit(_store_outcome(corpus, oc, sha_of[oc.path], fail_on))
 
-        report.cross_findings = cross_findings(corpus, set(report.shas))
-        if reports_dir is not None:
-            report.related_reports = rewrite_related_reports(
-                corpus, report.cross_findings, reports_dir, prof, report.outcomes)
+        _compare_across(corpus, report, prof, reports_dir, fail_on)
     if out is not None:
-        write_cross_findings(report.cross_findings, out)
+        try:
+            write_cross_findings(report.cross_findings, out)
+        except OSError as exc:
+            report.output_errors.append(f"{out}: cannot write cross-findings: {_why(exc)}")
         if portfolio:
             report.portfolio = out / "portfolio.html"
-            write_portfolio(report, report.portfolio)
+            try:
+                write_portfolio(report, report.portfolio)
+            except OSError as exc:
+                report.output_errors.append(
+                    f"{report.portfolio}: cannot write the portfolio: {_why(exc)}")
+                report.portfolio = None
     return report
+
+
+def _why(exc: OSError) -> str:
+    return exc.strerror or str(exc)
+
+
+def _compare_across(corpus: Corpus, report: BatchReport, profile: Profile,
+                    reports_dir: Path | None, fail_on: frozenset[Severity]) -> None:
+    """The cross-certificate phase: run and store the checks, decide again the verdict of
+    every certificate they concern (stored; the outcomes of this run updated), re-write
+    those certificates' reports."""
+    from corpus.crosscheck import run_cross_checks
+
+    ids = {cid for sha in set(report.shas) if (cid := corpus.find(sha)) is not None}
+    phase = run_cross_checks(corpus, ids, profile)
+    report.cross_findings = [cf for cf in phase.findings if cf.cert_id in ids]
+    by_cert: dict[int, list[Finding]] = {}
+    for cf in phase.findings:
+        if cf.cert_id is not None:
+            by_cert.setdefault(cf.cert_id, []).append(cf.finding)
+    decided = decide_again(corpus, phase.changed, by_cert)
+    corpus.set_verdicts({cid: v.key.value for cid, v in decided.items()})
+    for i, o in enumerate(report.outcomes):
+        cid = corpus.find(o.sha256) if o.sha256 else None
+        if cid is None or cid not in decided or o.status is Status.FAILED:
+            continue
+        counted = [f for f in corpus.findings(cid, stage=None) if not f.preview]
+        new = replace(o, verdict=decided[cid].label, findings=len(counted),
+                      breach=any(f.severity in fail_on for f in counted))
+        report.outcomes[i] = new
+        if new.verdict != o.verdict or new.findings != o.findings:
+            report.decided_again.append(new)
+    if reports_dir is not None:
+        report.related_reports = rewrite_related_reports(
+            corpus, phase.findings, reports_dir, profile, report.outcomes,
+            only=phase.changed)
+
+
+def decide_again(corpus: Corpus, cert_ids: Iterable[int],
+                 cross: dict[int, list[Finding]]) -> dict[int, Verdict]:
+    """The verdict of each stored certificate with its cross-certificate findings counted."""
+    from checks.runner import CheckResults
+    from reports.verdict import decide
+
+    out = {}
+    for cid in sorted(cert_ids):
+        cert = corpus.certificate(cid)
+        results = CheckResults(DEFAULT_PROFILE, [], corpus.findings(cid))
+        out[cid] = decide(cert, results.with_findings(cross.get(cid, [])))
+    return out
 
 
 def warm_up(layouts: Sequence[Layout], engine: str | None) -> None:
@@ -373,27 +453,32 @@ def _warm_up_certificate() -> Any:
     return cert
 
 
-def _store_outcome(corpus: Corpus, oc: Outcome, sha: str) -> FileOutcome:
+def _store_outcome(corpus: Corpus, oc: Outcome, sha: str,
+                   fail_on: frozenset[Severity] = DEFAULT_FAIL_ON) -> FileOutcome:
     """Write one result to the store (one transaction) and say how the file ended.
 
     A file whose reports could not be written (ReportWriteError: the output folder's fault,
-    not the PDF's) is failed for this run but not stored, so the next run audits it again."""
+    not the PDF's) is failed for this run but not stored, so the next run audits it again.
+    A store that cannot take the result (disk full, read-only, damaged) stops the run with a
+    one-line CorpusError naming the store and the file: nothing of the file is stored, so it
+    is never recorded as failed for the store's fault, and a re-run audits it."""
     from certvet.api import ReportWriteError
     from corpus.store import CorpusError
 
     if oc.error is None and oc.result is not None:
         res: AuditResult = oc.result
+        verdict = res.verdict
         try:
-            corpus.add(res.certificate, res.results)
+            corpus.add(res.certificate, res.results, verdict=verdict.key.value)
         except CorpusError as exc:
-            oc = Outcome(oc.path, None, f"{oc.path}: could not be stored ({exc})")
-        else:
-            verdict = res.verdict
-            counted = [f for f in res.results.findings if not f.preview]
-            return FileOutcome(oc.path, Status.AUDITED, sha, layout=res.layout,
-                               certificate=res.certificate.name, verdict=verdict.label,
-                               findings=len(counted), breach=res.has_breach,
-                               reports=dict(res.outputs))
+            raise CorpusError(f"{exc} (while storing {oc.path}; nothing of it was stored, "
+                              "a re-run audits it)") from None
+        counted = [f for f in res.results.findings if not f.preview]
+        return FileOutcome(oc.path, Status.AUDITED, sha, layout=res.layout,
+                           certificate=res.certificate.name, verdict=verdict.label,
+                           findings=len(counted),
+                           breach=any(f.severity in fail_on for f in counted),
+                           reports=dict(res.outputs))
     reason = _one_line(oc.error or f"{oc.path}: no result")
     if not isinstance(oc.exception, ReportWriteError):
         corpus.add_failure(sha, str(oc.path), reason)
@@ -403,20 +488,17 @@ def _store_outcome(corpus: Corpus, oc: Outcome, sha: str) -> FileOutcome:
 # --- cross-certificate findings -----------------------------------------------------------
 
 
-def cross_findings(corpus: Corpus, shas: set[str]) -> list[CrossFinding]:
-    """Copies, repeats, reused numbers and workload for the certificates with these hashes."""
+def cross_findings(corpus: Corpus, shas: set[str], profile: Profile | None = None
+                   ) -> list[CrossFinding]:
+    """Copies, repeats, reused numbers and workload for the certificates with these hashes
+    (computed, not stored: the portfolio's side-by-side readings)."""
     from corpus.crosscheck import check_certificate, workload
 
-    ids = {}
-    for sha in sorted(shas):
-        cid = corpus.find(sha)
-        if cid is not None:
-            ids[cid] = corpus.certificate_row(cid).name
+    ids = {cid for sha in sorted(shas) if (cid := corpus.find(sha)) is not None}
     found: list[CrossFinding] = []
     for cid in sorted(ids):
-        found.extend(check_certificate(corpus, cid))
-    names = set(ids.values())
-    found.extend(cf for cf in workload(corpus) if cf.finding.certificate in names)
+        found.extend(check_certificate(corpus, cid, profile))
+    found.extend(cf for cf in workload(corpus, profile) if cf.cert_id in ids)
     found.sort(key=lambda cf: (cf.finding.certificate, cf.finding.check_id,
                                cf.finding.related, cf.finding.message))
     return found
@@ -439,7 +521,6 @@ def related_findings(
     None); links are its file name, as the reports are siblings in one folder."""
     from urllib.parse import quote
 
-    from corpus.crosscheck import INSPECTOR_WORKLOAD, INSTRUMENT_WORKLOAD, NUMBER_REUSED
     from corpus.store import CertificateRow
     from reports.model import OtherCertificate, PairedValue, RelatedFinding
 
@@ -450,20 +531,10 @@ def related_findings(
             rows[cid] = corpus.certificate_row(cid)
         return rows[cid]
 
-    def others_of(cf: CrossFinding, owner: int) -> list[CertificateRow]:
+    def others_of(cf: CrossFinding) -> list[CertificateRow]:
         if cf.match is not None:
             return [row(cf.match.cert_b)]
-        if cf.finding.check_id == NUMBER_REUSED:
-            return corpus.certificates(
-                "cert_number_norm = (SELECT cert_number_norm FROM certificates WHERE id = ?) "
-                "AND id != ?", (owner, owner))
-        names = set(cf.finding.related)
-        same_day = cf.finding.check_id in (INSPECTOR_WORKLOAD, INSTRUMENT_WORKLOAD)
-        return [r for r in corpus.certificates(
-                    "id != ? AND inspection_date IS ?" if same_day
-                    else "id != ?",
-                    (owner, row(owner).inspection_date) if same_day else (owner,))
-                if r.name in names]
+        return [row(o) for o in cf.others]
 
     out: dict[int, list[Any]] = {}
     for cf in found:
@@ -473,7 +544,7 @@ def related_findings(
         if owner is None:
             continue
         others = []
-        for o in others_of(cf, owner):
+        for o in others_of(cf):
             html = report_of(o.id)
             others.append(OtherCertificate(
                 name=o.name, address=o.address or "", date=o.inspection_date or "",
@@ -493,9 +564,11 @@ def rewrite_related_reports(
     reports_dir: Path,
     profile: Profile,
     outcomes: Sequence[FileOutcome] = (),
+    only: set[int] | None = None,
 ) -> list[Path]:
-    """Re-write the HTML and JSON reports of every certificate with a cross-certificate
-    finding, with the findings in them (section "Compared with other certificates"). The
+    """Re-write the HTML, JSON and findings CSV reports of every certificate with a
+    cross-certificate finding (or of the certificates in `only`: also those that no longer
+    have one), with the findings in them (section "Compared with other certificates"). The
     certificate, its findings, check runs and the rule profile it was audited with come back
     from the store, so certificates audited in an earlier run are covered too, when their
     reports are in `reports_dir`. `profile` (this run's) stands in for a certificate stored
@@ -505,6 +578,7 @@ def rewrite_related_reports(
 
     from certvet import __version__
     from checks.runner import CheckResults
+    from reports.csvout import write_findings_csv
     from reports.html import write_html
     from reports.jsonout import write_json
 
@@ -526,7 +600,9 @@ def rewrite_related_reports(
         return html_of[cid]
 
     written: list[Path] = []
-    for cid, related in sorted(related_findings(corpus, found, report_of).items()):
+    by_cert = related_findings(corpus, found, report_of)
+    for cid in sorted(only if only is not None else by_cert):
+        related = by_cert.get(cid, [])
         html = report_of(cid)
         if html is None:
             continue  # never reported into this folder
@@ -544,6 +620,9 @@ def rewrite_related_reports(
                 cert, results, html.with_suffix(".json"), certvet_version=__version__,
                 profile=used, generated_at=when.isoformat() if when else None,
                 related=related))
+            written.append(write_findings_csv(
+                results.with_findings(rf.finding for rf in related),
+                html.with_name(html.stem + ".findings.csv")))
         except OSError:
             continue
     return written
@@ -609,7 +688,8 @@ def collect_portfolio(
     from checks.model import Severity
     from checks.runner import CheckResults
     from checks.tables import max_zs
-    from corpus.crosscheck import CrossCheckOptions, party_stats
+    from corpus.crosscheck import party_stats, workload_limit
+    from corpus.store import STAGE_CORPUS
     from extractor.records import ValueKind
     from reports.portfolio import CertInput, LinkInput, PartyInput, PortfolioData
     from reports.verdict import decide
@@ -629,7 +709,9 @@ def collect_portfolio(
     for row in rows:
         cert = corpus.certificate(row.id)
         found = corpus.findings(row.id)
-        verdict = decide(cert, CheckResults(DEFAULT_PROFILE, [], found))
+        # the verdict counts the stored cross-certificate findings too (listed as links)
+        verdict = decide(cert, CheckResults(DEFAULT_PROFILE, [], found).with_findings(
+            corpus.findings(row.id, stage=STAGE_CORPUS)))
         for _, c in cert.circuits():
             zs = c.number("zs")
             if zs is not None:
@@ -656,24 +738,18 @@ def collect_portfolio(
                            if not f.preview),
             report=report,
         ))
-    by_name: dict[str, list[int]] = {}
-    for ci in certs:
-        by_name.setdefault(ci.name, []).append(ci.id)
-    links: list[LinkInput] = []
+    links: list[LinkInput] = []  # one per cross-certificate finding, on its certificate
     for cf in cross:
         f, m = cf.finding, cf.match
-        if m is not None and m.cert_a is not None:
-            owners = [m.cert_a]
-            other: int | None = m.cert_b
-        else:
-            owners, other = by_name.get(f.certificate, []), None
+        owner = cf.cert_id if cf.cert_id is not None else (m.cert_a if m is not None else None)
+        other = m.cert_b if m is not None else None
         blocks = tuple(
             (b.board_a, b.board_b,
              tuple((r.field, r.circuit_a, r.raw_a, r.circuit_b, r.raw_b, r.relation)
                    for r in b.readings))
             for b in (m.blocks if m is not None else ())
         )
-        for owner in owners:
+        if owner is not None:
             links.append(LinkInput(
                 cert=owner, other=other, check_id=f.check_id, severity=f.severity.slug,
                 message=f.message, kind=m.kind if m is not None else None,
@@ -681,10 +757,7 @@ def collect_portfolio(
                 related=f.related))
     names_in_scope = {(c.inspector or "") for c in certs}
     workload = [
-        (who or "inspector unread", day, int(n)) for who, day, n in corpus.conn.execute(
-            "SELECT inspector, inspection_date, sum(n_tested) FROM certificates "
-            "WHERE inspection_date IS NOT NULL GROUP BY inspector_norm, inspection_date "
-            "ORDER BY sum(n_tested) DESC, inspector, inspection_date")
+        (who or "inspector unread", day, n) for who, day, n in corpus.tested_per_day()
         if shas is None or (who or "") in names_in_scope
     ]
     parties = [
@@ -698,7 +771,7 @@ def collect_portfolio(
         store=str(corpus.path),
         certificates=certs, failures=list(failures), links=links, parties=parties,
         zs_ratios=zs_ratios, last_digits=digits, workload=workload,
-        workload_limit=CrossCheckOptions().max_circuits_per_day,
+        workload_limit=workload_limit(),
         severities=[s.slug for s in sorted(Severity, reverse=True)],
     )
 

@@ -10,13 +10,57 @@ import os
 import sys
 from enum import StrEnum
 from pathlib import Path
-from typing import TYPE_CHECKING, Annotated, Optional
+from typing import TYPE_CHECKING, Annotated, Any, Optional
 
 import typer
 
 from certvet.console import err as _err
+from certvet.console import make_out_dir as _make_out_dir
 from certvet.console import one_line
-from certvet.exitcodes import EXIT_CLEAN, EXIT_FAILED, EXIT_FINDINGS, EXIT_INTERNAL, EXIT_USAGE
+from certvet.exitcodes import (
+    DEFAULT_FAIL_ON,
+    EXIT_CLEAN,
+    EXIT_FAILED,
+    EXIT_FINDINGS,
+    EXIT_INTERNAL,
+    EXIT_USAGE,
+    parse_fail_on,
+)
+
+
+def _readable_metavars() -> None:
+    """Help shows words a user reads (PATH, TEXT, N, PDF...) rather than typer's Python types
+    (<path>, <list[Path]>, <int range>); an argument with its own metavar shows only that.
+    Typer has no setting for this, so its two display methods are wrapped here, once; if a
+    typer release renames them nothing changes and tests/test_cli_conventions.py fails."""
+    import re
+
+    import typer.core as tc
+
+    param = getattr(tc, "_TyperParameter", None)
+    if param is None or not hasattr(param, "display_type") or getattr(param, "_certvet", False):
+        return
+    words = {"path": "PATH", "str": "TEXT", "int": "N", "int range": "N", "float": "NUMBER",
+             "float range": "NUMBER", "Path": "PATH", "bool": "BOOL"}
+    type_of = param.display_type
+
+    def display_type(self: Any, ctx: Any) -> str:
+        label = str(type_of(self, ctx)).strip("<>")
+        many = re.fullmatch(r"list\[(.*)\]", label)
+        label = many[1] if many else label
+        return words.get(label, label) + ("..." if many else "")
+
+    param.display_type = display_type
+    arg_type = tc.TyperArgument.display_type_rich
+
+    def argument_type(self: Any, ctx: Any) -> str | None:
+        return None if self.metavar else arg_type(self, ctx)
+
+    tc.TyperArgument.display_type_rich = argument_type  # type: ignore[method-assign]
+    param._certvet = True
+
+
+_readable_metavars()
 
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from certvet.api import AuditResult
@@ -32,26 +76,35 @@ app = typer.Typer(
         "you which results to question. Defer to BS 7671, local codes and licensed practice."
     ),
     no_args_is_help=True,
-    add_completion=False,
+    add_completion=True,  # --install-completion / --show-completion (bash, zsh, fish, pwsh)
     rich_markup_mode=None,
     pretty_exceptions_enable=False,
+    context_settings={"help_option_names": ["-h", "--help"]},
 )
+
+
+def _show_version(value: bool) -> None:
+    if value:
+        from certvet import __version__
+
+        typer.echo(f"certvet {__version__}")
+        raise typer.Exit(EXIT_CLEAN)
+
+
+@app.callback()
+def _main_options(
+    version: Annotated[
+        bool,
+        typer.Option("--version", "-V", callback=_show_version, is_eager=True,
+                     help="Print certvet's version and exit."),
+    ] = False,
+) -> None:
+    """Options before any command (the help text is the app's, above)."""
 
 class EngineChoice(StrEnum):
     pdfium = "pdfium"
     pdfplumber = "pdfplumber"
     lattice = "lattice"
-
-
-def _make_out_dir(out: Path) -> None:
-    """Create the reports folder up front: one line and exit 3 when it cannot be made."""
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        why = "a file of that name is in the way" if isinstance(exc, FileExistsError) else (
-            exc.strerror or str(exc))
-        _err(f"{out}: cannot create the reports folder: {why}")
-        raise typer.Exit(EXIT_FAILED) from None
 
 
 def _load_inputs(
@@ -77,18 +130,24 @@ def _run_batch(
     engine: str | None,
     password: str | None,
     quiet: bool,
-    limits: Limits,
+    fail_on: frozenset[Any],
+    verbose: bool = False,
+    as_json: bool = False,
+    limits: Limits | None = None,
 ) -> int:
     from certvet.api import audit_many
+    from reports.verdict import NOT_AUDITED
 
+    quiet = quiet or as_json  # --json: stdout holds the document alone; errors go to stderr
     show_bar = len(pdfs) > 3 and not quiet and sys.stderr.isatty()
     lines: list[str] = []
+    printed = [0]  # lines already echoed
 
     def done(path: Path, result: AuditResult | None, error: str | None) -> None:
         if error and quiet:
             _err(error)  # --quiet prints nothing but errors
         if error:
-            lines.append(f"{'FAILED':<22} {one_line(error)}")
+            lines.append(f"{NOT_AUDITED.upper():<22} {one_line(error)}")
         else:
             assert result is not None  # audit_many gives a result or an error
             v = result.verdict
@@ -97,8 +156,11 @@ def _run_batch(
                 f"{v.label.upper():<22} {one_line(str(path))}  ({n} findings, layout "
                 f"{result.layout})"
             )
+            if verbose:
+                lines.extend(_finding_lines(result))
         if not show_bar and not quiet:
-            typer.echo(lines[-1])
+            typer.echo("\n".join(lines[printed[0]:]))
+        printed[0] = len(lines)
 
     if show_bar:
         from rich.progress import Progress
@@ -133,21 +195,38 @@ def _run_batch(
             on_done=done,
             limits=limits,
         )
-    breach = any(r.has_breach for r in summary.audited)
+    breach = any(f.severity in fail_on and not f.preview
+                 for r in summary.audited for f in r.results.findings)
     if not quiet:
         typer.echo(
             f"\n{summary.total} file(s): {len(summary.audited)} audited, "
-            f"{len(summary.failed)} failed; reports in {out_dir}"
+            f"{len(summary.failed)} {NOT_AUDITED}; reports in {out_dir}"
         )
         for f in summary.failed:
-            typer.echo(f"  failed: {one_line(f.reason)}")
+            typer.echo(f"  {NOT_AUDITED}: {one_line(f.reason)}")
         typer.echo(
             "A desk check cannot show an installation is safe; "
             "defer to BS 7671 and licensed practice."
         )
-    if summary.failed:
-        return EXIT_FAILED
-    return EXIT_FINDINGS if breach else EXIT_CLEAN
+    code = EXIT_FAILED if summary.failed else (EXIT_FINDINGS if breach else EXIT_CLEAN)
+    if as_json:
+        import json
+
+        from certvet.jsonresult import audit_result_document
+
+        typer.echo(json.dumps(audit_result_document(summary, code), indent=1,
+                              ensure_ascii=False))
+    return code
+
+
+def _finding_lines(result: AuditResult) -> list[str]:
+    """`--verbose`: one line per finding under the file's line."""
+    out = []
+    for f in result.results.findings:
+        where = "/".join(x for x in (f.board, f.circuit) if x) or "certificate"
+        tag = f"{f.severity.label}{' (preview)' if f.preview else ''}"
+        out.append(one_line(f"    {tag:<24} {where:<10} {f.check_id}: {f.message}"))
+    return out
 
 
 @app.command()
@@ -181,6 +260,19 @@ def audit(
         typer.Option("--password", help="Password for encrypted PDFs."),
     ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing but errors.")] = False,
+    verbose: Annotated[
+        bool, typer.Option("--verbose", "-v", help="Also print every finding under its file.")
+    ] = False,
+    as_json: Annotated[
+        bool, typer.Option("--json", help="Print a machine-readable result on stdout (JSON with "
+                           "its format_version; see certvet/jsonresult.py) instead of the "
+                           "console lines.")
+    ] = False,
+    fail_on: Annotated[
+        str, typer.Option("--fail-on", metavar="SEVERITIES",
+                          help="Severities that make the exit status 1, comma-separated "
+                               "(note, query, breach, impossible).")
+    ] = DEFAULT_FAIL_ON,
     timeout: Annotated[
         float, typer.Option("--timeout", min=1.0, help="Seconds allowed per file.")
     ] = 120.0,
@@ -196,6 +288,11 @@ def audit(
     if not layout:
         _err("give at least one --layout (a layout file or a folder of them)")
         raise typer.Exit(EXIT_USAGE)
+    try:
+        severities = parse_fail_on(fail_on)
+    except ValueError as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_USAGE) from None
     layouts, prof = _load_inputs(layout, profile)
     files = expand_inputs(pdfs)
     if not files:
@@ -203,9 +300,8 @@ def audit(
         raise typer.Exit(EXIT_FAILED)
     _make_out_dir(out)
     limits = Limits(seconds=timeout, memory_mb=memory_mb)
-    code = _run_batch(
-        files, layouts, prof, out, engine.value if engine else None, password, quiet, limits
-    )
+    code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet,
+                      severities, verbose=verbose, as_json=as_json, limits=limits)
     raise typer.Exit(code)
 
 
@@ -228,7 +324,7 @@ def demo(
         batch(
             [DEMO_DIR], layout=[DEMO_LAYOUTS], store=out / "corpus.sqlite", out=out,
             workers=None, timeout=120.0, memory_mb=2048, retry_failed=False, scheduler=None,
-            profile=None, password=None, quiet=False,
+            profile=None, password=None, quiet=False, fail_on=DEFAULT_FAIL_ON,
         )
     except typer.Exit as done:
         code = done.exit_code

@@ -14,8 +14,8 @@ from typing import Annotated, Any, Optional
 import typer
 
 from certvet.console import err as _err
-from certvet.console import one_line
-from certvet.exitcodes import EXIT_FAILED, EXIT_USAGE
+from certvet.console import make_out_dir, one_line
+from certvet.exitcodes import DEFAULT_FAIL_ON, EXIT_FAILED, EXIT_USAGE, parse_fail_on
 
 
 class ExportFormat(StrEnum):
@@ -61,6 +61,12 @@ def batch(
         Optional[str], typer.Option("--password", help="Password for encrypted PDFs.")  # noqa: UP045
     ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print only the totals.")] = False,
+    fail_on: Annotated[
+        str, typer.Option("--fail-on", metavar="SEVERITIES",
+                          help="Severities that make the exit status 1, comma-separated "
+                               "(note, query, breach, impossible); findings across "
+                               "certificates count too (a copied schedule is impossible).")
+    ] = DEFAULT_FAIL_ON,
 ) -> None:
     """Audit a folder of certificates into the corpus: resumable, in parallel, never stopped by
     one bad file; then cross-certificate checks and a portfolio page."""
@@ -76,18 +82,18 @@ def batch(
     try:
         layouts = load_layouts(layout)
         prof = load_profile(profile) if profile else DEFAULT_PROFILE
-    except (LayoutError, ProfileError) as exc:
+        severities = parse_fail_on(fail_on)
+    except (LayoutError, ProfileError, ValueError) as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_USAGE) from None
 
     from certvet.api import expand_inputs
+    from reports.verdict import NOT_AUDITED
 
     if not expand_inputs(inputs):
         _err(f"{', '.join(str(p) for p in inputs)}: no PDF files found")
         raise typer.Exit(EXIT_FAILED)
-    from certvet.cli import _make_out_dir
-
-    _make_out_dir(out)
+    make_out_dir(out)
 
     show_bar = not quiet and sys.stderr.isatty()
     lines: list[str] = []
@@ -111,7 +117,7 @@ def batch(
         progress = Progress(TextColumn("auditing"), BarColumn(), MofNCompleteColumn(),
                             TextColumn("[green]{task.fields[audited]} audited[/] · "
                                        "{task.fields[skipped]} skipped · "
-                                       "[red]{task.fields[failed]} failed[/]"),
+                                       "[red]{task.fields[failed]} " + NOT_AUDITED + "[/]"),
                             TimeElapsedColumn(), TimeRemainingColumn(), transient=True)
         progress.start()
         task = progress.add_task("batch", total=total, audited=0, skipped=0, failed=0)
@@ -129,7 +135,7 @@ def batch(
         report = run_batch(inputs, layouts=layouts, store=store, out_dir=out, workers=workers,
                            limits=Limits(seconds=timeout, memory_mb=memory_mb), profile=prof,
                            password=password, on_event=on_event, retry_failed=retry_failed,
-                           scheduler=scheduler, on_start=on_start)
+                           scheduler=scheduler, on_start=on_start, fail_on=severities)
     except (CorpusError, ConnectionError) as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_FAILED) from None
@@ -149,12 +155,20 @@ def batch(
                 typer.echo(f"  {one_line(str(o.path))}")
         for cf in report.cross_findings:
             f = cf.finding
-            typer.echo(one_line(f"CROSS    {f.certificate}: {f.check_id}: {f.message}"))
+            typer.echo(one_line(f"ACROSS   {f.certificate}: {f.check_id} ({f.severity.slug}): "
+                                f"{f.message}"))
+        if report.decided_again:
+            typer.echo("verdicts after comparing with other certificates:")
+            for o in report.decided_again:
+                typer.echo(o.verdict_line())
     typer.echo(f"\n{len(report.outcomes)} file(s): {t['audited']} audited, {t['skipped']} "
-               f"skipped, {t['failed']} failed; {len(report.cross_findings)} cross-certificate "
+               f"skipped, {t['failed']} {NOT_AUDITED}; {len(report.cross_findings)} "
+               "cross-certificate "
                f"finding(s); store {store}; portfolio {report.portfolio}")
     for o in report.failed:
-        typer.echo(f"  failed: {one_line(o.reason or '')}")
+        typer.echo(f"  {NOT_AUDITED}: {one_line(o.reason or '')}")
+    for line in report.output_errors:
+        _err(line)
     typer.echo("A desk check cannot show an installation is safe; "
                "defer to BS 7671 and licensed practice.")
     raise typer.Exit(report.exit_code)

@@ -48,9 +48,7 @@ def remote_audit(job: Any, name: str, data: bytes
             result.certificate.source = str(original)
             files: dict[str, bytes] = {}
             if job.reports_dir is not None:
-                from certvet.batch import write_certificate_reports
-
-                written = write_certificate_reports(result, reports, job.profile)
+                written = job.write_reports(result, reports)
                 files = {key: p.read_bytes() for key, p in written.items()}
                 result.outputs = {key: Path(job.reports_dir) / p.name
                                   for key, p in written.items()}

@@ -60,7 +60,7 @@ class Check:
     reference: ClassVar[str]
     basis: ClassVar[str] = "published"  # "published", "common practice" or "from memory"
     group: ClassVar[str] = "general"
-    scope: ClassVar[str] = "circuit"  # "circuit", "board" or "certificate"
+    scope: ClassVar[str] = "circuit"  # "circuit", "board", "certificate" or "corpus"
     preview: ClassVar[bool] = False  # preview checks report but never fail a run
     Options: ClassVar[type] = NoOptions
 
@@ -195,6 +195,19 @@ class CertificateCheck(Check):
         if result is None:
             return 0, []
         return 1, list(result)
+
+
+class CorpusCheck(Check):
+    """A check across certificates: declared here like every other check (identity, options,
+    documentation, rule-profile settings), run by the corpus stage (``corpus/crosscheck.py``),
+    the only stage that sees the other certificates. The runner of one certificate skips it.
+    """
+
+    scope = "corpus"
+    group = "corpus"
+
+    def run(self, cert: Certificate) -> tuple[int, list[Finding]]:
+        return 0, []  # needs the other certificates: see corpus/crosscheck.py
 
 
 def iter_findings(result: Iterable[Finding] | None) -> Iterator[Finding]:

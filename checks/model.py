@@ -10,21 +10,30 @@ from extractor.records import Box
 
 
 class Severity(IntEnum):
-    """Our own four-step scale, most serious first when sorted descending."""
+    """Our own four-step scale, most serious first when sorted descending.
+
+    Not the certificate's classification codes (C1/C2/C3/FI): reports show each severity as a
+    labelled badge with its own mark (``mark``), and a legend that says so.
+    """
 
     NOTE = 1  # worth knowing; no action needed by itself
     QUERY = 2  # ask the contractor: a result that does not add up or is incomplete
     BREACH = 3  # a recorded result fails a requirement of BS 7671
-    IMPOSSIBLE = 4  # physically impossible or immediately unsafe as recorded
+    IMPOSSIBLE = 4  # physically or arithmetically impossible as recorded
 
     @property
     def label(self) -> str:
-        return {
-            Severity.NOTE: "note",
-            Severity.QUERY: "query",
-            Severity.BREACH: "breach",
-            Severity.IMPOSSIBLE: "impossible or unsafe",
-        }[self]
+        return _SEVERITY_WORDS[self][0]
+
+    @property
+    def mark(self) -> str:
+        """The shape printed before the label, so a badge never relies on colour alone."""
+        return _SEVERITY_WORDS[self][1]
+
+    @property
+    def meaning(self) -> str:
+        """One sentence for the legend."""
+        return _SEVERITY_WORDS[self][2]
 
     @property
     def slug(self) -> str:
@@ -33,7 +42,7 @@ class Severity(IntEnum):
     @classmethod
     def parse(cls, text: str) -> Severity:
         key = text.strip().lower().replace(" ", "_")
-        aliases = {"impossible_or_unsafe": "impossible"}
+        aliases = {"impossible_or_unsafe": "impossible", "impossible_as_recorded": "impossible"}
         key = aliases.get(key, key)
         for s in cls:
             if s.slug == key:
@@ -41,11 +50,62 @@ class Severity(IntEnum):
         raise ValueError(f"unknown severity {text!r} (use note, query, breach or impossible)")
 
 
+# label, mark, meaning: the one definition of the severity words (README, legend, badges)
+_SEVERITY_WORDS: dict[Severity, tuple[str, str, str]] = {
+    Severity.IMPOSSIBLE: (
+        "impossible as recorded", "\u2298",  # ⊘
+        "the recorded figures cannot all be right (e.g. R1+R2 larger than the measured Zs): "
+        "an error in the record, not by itself a danger",
+    ),
+    Severity.BREACH: (
+        "breach", "\u25b2",  # ▲
+        "the recorded result fails a requirement of BS 7671 (e.g. measured Zs above the "
+        "maximum for the device)",
+    ),
+    Severity.QUERY: (
+        "query", "\u25c6",  # ◆
+        "ask the contractor: the results do not add up, are incomplete, or look written down "
+        "rather than measured",
+    ),
+    Severity.NOTE: ("note", "\u25cf", "worth knowing; no action by itself"),  # ●
+}
+
+
 class Outcome(StrEnum):
-    PASSED = "passed"  # applied to at least one item and found nothing
-    FAILED = "failed"  # at least one finding
-    NOT_APPLICABLE = "not_applicable"  # nothing on the certificate it applies to
-    DISABLED = "disabled"  # turned off by the rule profile
+    """How one check ended on one certificate, in words that say what was found.
+
+    The one vocabulary of check outcomes: the HTML, JSON, CSV and console outputs all print
+    ``label``/``describe``; the values are the JSON/CSV/store keys. (Before JSON format 3 the
+    values were passed / failed / not_applicable / disabled; ``Outcome("failed")`` still reads
+    an old stored value.) "failed" is never a check outcome: a check that questions something
+    has *found* it, and the console keeps "not audited" for a file that could not be read.
+    """
+
+    RAISED_NOTHING = "raised_nothing"  # applied to at least one item and found nothing
+    FOUND = "found"  # at least one finding
+    DID_NOT_APPLY = "did_not_apply"  # nothing on the certificate it applies to
+    TURNED_OFF = "turned_off"  # turned off by the rule profile
+
+    @classmethod
+    def _missing_(cls, value: object) -> Outcome | None:
+        return _OUTCOME_BEFORE_V3.get(str(value))
+
+    @property
+    def label(self) -> str:
+        """The outcome as words: "raised nothing", "found", "did not apply", "turned off"."""
+        return self.value.replace("_", " ")
+
+    def describe(self, findings: int) -> str:
+        """The outcome of one run as printed: "found 3", "raised nothing"…"""
+        return f"found {findings}" if self is Outcome.FOUND else self.label
+
+
+_OUTCOME_BEFORE_V3 = {
+    "passed": Outcome.RAISED_NOTHING,
+    "failed": Outcome.FOUND,
+    "not_applicable": Outcome.DID_NOT_APPLY,
+    "disabled": Outcome.TURNED_OFF,
+}
 
 
 @dataclass(frozen=True)

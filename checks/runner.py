@@ -4,6 +4,7 @@ or disabled, and every finding lands in one list."""
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 
 from checks.model import CheckRun, Finding, Outcome, Severity
@@ -22,6 +23,12 @@ class CheckResults:
         counted = [f.severity for f in self.findings if not f.preview]
         return max(counted) if counted else None
 
+    def with_findings(self, extra: Iterable[Finding]) -> CheckResults:
+        """These results with more findings (a certificate's cross-certificate findings)."""
+        more = list(extra)
+        return self if not more else CheckResults(self.profile, self.runs,
+                                                  [*self.findings, *more])
+
     def count(self, severity: Severity) -> int:
         return sum(1 for f in self.findings if f.severity is severity and not f.preview)
 
@@ -30,19 +37,21 @@ def run_checks(cert: Certificate, profile: Profile | None = None) -> CheckResult
     profile = profile or DEFAULT_PROFILE
     results = CheckResults(profile)
     for cls in all_checks():
+        if cls.scope == "corpus":
+            continue  # across certificates: run by the corpus stage (corpus/crosscheck.py)
         settings = profile.settings(cls.id)
         check = profile.instantiate(cls)
         options = dataclasses.asdict(check.options)
         if not settings.enabled:
-            results.runs.append(CheckRun(cls.id, cls.title, Outcome.DISABLED, 0, 0, options))
+            results.runs.append(CheckRun(cls.id, cls.title, Outcome.TURNED_OFF, 0, 0, options))
             continue
         applied, found = check.run(cert)
         if found:
-            outcome = Outcome.FAILED
+            outcome = Outcome.FOUND
         elif applied:
-            outcome = Outcome.PASSED
+            outcome = Outcome.RAISED_NOTHING
         else:
-            outcome = Outcome.NOT_APPLICABLE
+            outcome = Outcome.DID_NOT_APPLY
         results.runs.append(CheckRun(cls.id, cls.title, outcome, applied, len(found), options))
         results.findings.extend(found)
     results.findings.sort(

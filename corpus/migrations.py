@@ -190,11 +190,62 @@ _V4 = "\n".join(
     for part, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
 )
 
+# One findings table for every finding: per certificate (stage 'certificate', stored with the
+# certificate) and across certificates (stage 'corpus', replaced by each cross-certificate
+# phase), with severities as checks.model.Severity slugs and the other certificates by content
+# hash; verdicts as reports/verdict.py's keys (the word 'clean' goes). Certificates stored
+# before this migration keep a verdict mapped from their worst finding ('clean' and 'note'
+# become 'incomplete' when the schedule had no circuits or a problem was recorded, else
+# 'no_concerns'); the next batch over them decides it again with the cross-certificate checks.
+_V5 = """
+CREATE TABLE findings_v5 (
+    id             INTEGER PRIMARY KEY,
+    cert_id        INTEGER NOT NULL REFERENCES certificates(id) ON DELETE CASCADE,
+    stage          TEXT NOT NULL CHECK (stage IN ('certificate', 'corpus')),
+    check_id       TEXT NOT NULL,
+    severity       TEXT NOT NULL CHECK (severity IN ('note', 'query', 'breach', 'impossible')),
+    certificate    TEXT NOT NULL,
+    message        TEXT NOT NULL,
+    reference      TEXT NOT NULL,
+    board TEXT, circuit TEXT, field TEXT, recorded TEXT, expected TEXT, tolerance TEXT,
+    page INTEGER, x0 REAL, top REAL, x1 REAL, bottom REAL,
+    preview        INTEGER NOT NULL,
+    related        TEXT NOT NULL,             -- JSON list of the other certificates' names
+    related_sha256 TEXT NOT NULL DEFAULT '[]' -- JSON list of their content hashes
+);
+INSERT INTO findings_v5 (id, cert_id, stage, check_id, severity, certificate, message, reference,
+    board, circuit, field, recorded, expected, tolerance, page, x0, top, x1, bottom, preview,
+    related)
+SELECT id, cert_id, 'certificate', check_id,
+    CASE severity WHEN 1 THEN 'note' WHEN 2 THEN 'query' WHEN 3 THEN 'breach'
+                  WHEN 4 THEN 'impossible' END,
+    certificate, message, reference, board, circuit, field, recorded, expected, tolerance,
+    page, x0, top, x1, bottom, preview, related
+FROM findings;
+DROP TABLE findings;
+ALTER TABLE findings_v5 RENAME TO findings;
+CREATE INDEX findings_cert ON findings(cert_id, stage);
+CREATE INDEX findings_check ON findings(check_id);
+
+ALTER TABLE certificates ADD COLUMN verdict_v5 TEXT;
+UPDATE certificates SET verdict_v5 = CASE verdict
+    WHEN 'impossible' THEN 'not_credible'
+    WHEN 'breach' THEN 'fails_requirements'
+    WHEN 'query' THEN 'queries'
+    ELSE CASE WHEN n_circuits = 0
+                   OR EXISTS (SELECT 1 FROM problems p WHERE p.cert_id = certificates.id)
+              THEN 'incomplete' ELSE 'no_concerns' END
+END;
+ALTER TABLE certificates DROP COLUMN verdict;
+ALTER TABLE certificates RENAME COLUMN verdict_v5 TO verdict
+"""
+
 MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (1, "files, certificates, boards, circuits, findings, similarity index", _V1),
     (2, "certificates: rule profile used (profile_name, profile JSON)", _V2),
     (3, "circuits: RCD standard and rating, IR neutral-earth, SPD type and indicator", _V3),
     (4, "boards: board RCD IΔn and the ways it protects (split-load boards)", _V4),
+    (5, "one findings table (stage, severity slugs, related hashes); verdict keys", _V5),
 )
 
 LATEST = MIGRATIONS[-1][0]

@@ -17,7 +17,7 @@ from collections import defaultdict
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 
-from checks.base import option
+from checks.catalogue.across import ReadingsMatchOptions
 from corpus.fingerprints import (
     BoardReadings,
     BoardSignature,
@@ -41,22 +41,9 @@ class IndexParams:
                 f"{self.lsh.as_text()}")
 
 
-@dataclass(frozen=True)
-class MatchOptions:
-    match_share: float = option(
-        0.8, "common practice, no source",
-        "share of aligned readings that must be equal or ±1 in the last digit for a block to "
-        "count as copied; independent tests of different houses rarely agree on one in five")
-    min_compared: int = option(
-        12, "common practice, no source",
-        "fewest aligned readings a match must rest on, so a few common values never link "
-        "two certificates")
-    max_candidates: int = option(
-        200, "common practice, no source",
-        "most candidate boards verified per lookup, best-hit first (bounds the lookup time)")
-    max_offset: int = option(
-        2, "common practice, no source",
-        "circuit rows a copied board may be shifted by (a row added or removed)")
+# When two certificates' readings count as the same: the options of the readings-match checks
+# (declared with them in checks/catalogue/across.py, set in a rule profile).
+MatchOptions = ReadingsMatchOptions
 
 
 # --- matches -----------------------------------------------------------------------------------

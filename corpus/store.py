@@ -20,7 +20,7 @@ import functools
 import json
 import re
 import sqlite3
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass
 from datetime import UTC, date, datetime
@@ -61,8 +61,31 @@ EXPORT_TABLES = ("files", "certificates", "boards", "circuits", "findings", "che
                  "problems")
 
 
+# Exported with the certificate's stable key beside the store's row id: its content hash and
+# number (a number alone can be reused).
+_EXPORT_QUERIES = {
+    "findings": "SELECT c.sha256 AS cert_sha256, c.cert_number AS cert_number, f.* "
+                "FROM findings f JOIN certificates c ON c.id = f.cert_id ORDER BY f.id",
+}
+
+
 class CorpusError(Exception):
     """A store that cannot be used: the message is one line and names the file."""
+
+
+STAGE_CERTIFICATE, STAGE_CORPUS = "certificate", "corpus"  # findings.stage
+
+
+def severity_at_least(worst: Severity) -> str:
+    """An SQL condition on a findings `severity` column: this severity or a worse one."""
+    slugs = ", ".join(f"'{s.slug}'" for s in Severity if s >= worst)
+    return f"severity IN ({slugs})"
+
+
+def severity_in(severities: Iterable[Severity]) -> str:
+    """An SQL condition on a findings `severity` column: one of these severities."""
+    slugs = ", ".join(f"'{s.slug}'" for s in sorted(set(severities))) or "NULL"
+    return f"severity IN ({slugs})"
 
 
 # --- normalisation ----------------------------------------------------------------------------
@@ -118,7 +141,7 @@ class CertificateRow:
     inspector: str | None
     contractor: str | None
     instrument_serial: str | None
-    verdict: str
+    verdict: str | None  # reports/verdict.py's key; None when stored without one
     n_boards: int
     n_circuits: int
     n_tested: int
@@ -265,6 +288,38 @@ class Corpus:
                 f"{self.path}: similarity index built with '{row[0]}', asked for '{want}'"
             )
 
+    @contextmanager
+    def lock(self) -> Iterator[None]:
+        """Hold the store for one writer (a batch run) for the whole block: a second writer
+        gets a one-line CorpusError at once instead of interleaving with this one. The lock
+        is an advisory lock on `<store>.lock`, released when this process ends, however it
+        ends. Readers (portfolio, export) need no lock; two writers in one process are not
+        told apart."""
+        import fcntl
+        import os
+
+        lock_path = self.path.with_name(self.path.name + ".lock")
+        try:
+            fd = os.open(lock_path, os.O_RDWR | os.O_CREAT, 0o644)
+        except OSError as e:
+            raise CorpusError(f"{self.path}: cannot create its lock file {lock_path}: "
+                              f"{e.strerror or e}") from None
+        try:
+            try:
+                # a POSIX record lock belongs to this process alone: forked workers do not
+                # inherit it, so a worker outliving a killed batch never holds the store
+                fcntl.lockf(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+            except OSError:
+                holder = os.pread(fd, 64, 0).decode("ascii", "replace").strip() or "unknown"
+                raise CorpusError(
+                    f"{self.path}: in use by another certvet batch (process {holder}); wait "
+                    "for it to finish, or give this batch another --store") from None
+            os.ftruncate(fd, 0)
+            os.pwrite(fd, str(os.getpid()).encode("ascii"), 0)
+            yield
+        finally:
+            os.close(fd)  # releases the lock
+
     def close(self) -> None:
         self.conn.close()
 
@@ -292,8 +347,10 @@ class Corpus:
         *,
         status: str = "audited",
         audited_at: datetime | None = None,
+        verdict: str | None = None,
     ) -> int:
-        """Store one audited certificate with its findings; returns its id.
+        """Store one audited certificate with its findings; returns its id. `verdict` is the
+        verdict key the caller decided (reports/verdict.py), None when it has none.
 
         A file already in the store is replaced (a re-audit), in the same transaction.
         """
@@ -310,7 +367,7 @@ class Corpus:
                 (cert.sha256, cert.source, cert.layout, cert.engine, _certvet_version(), when,
                  status),
             )
-            cert_id = self._insert_certificate(cert, results, boards)
+            cert_id = self._insert_certificate(cert, results, boards, verdict)
             board_ids = self._insert_boards(cert, cert_id)
             self._insert_findings(cert_id, results)
             index_boards(c, cert_id, list(zip(board_ids, sigs, strict=True)))
@@ -368,9 +425,9 @@ class Corpus:
         return int(cur.lastrowid or 0)
 
     def _insert_certificate(
-        self, cert: Certificate, results: CheckResults, boards: list[BoardReadings]
+        self, cert: Certificate, results: CheckResults, boards: list[BoardReadings],
+        verdict: str | None,
     ) -> int:
-        worst = results.worst()
         number = cert.text("cert_number")
         d = parse_date(cert.text("inspection_date"))
         row = {
@@ -384,7 +441,7 @@ class Corpus:
             "contractor": cert.text("contractor") or None,
             "instrument_serial": cert.text("instrument_serial") or None,
             "instrument_norm": normalise_key(cert.text("instrument_serial")) or None,
-            "verdict": worst.slug if worst else "clean",
+            "verdict": verdict,
             "n_boards": len(cert.boards),
             "n_circuits": sum(len(b.circuits) for b in cert.boards),
             "n_tested": sum(len(b.circuits) for b in boards),
@@ -414,16 +471,23 @@ class Corpus:
                                           **self._wide("circuits", c.cells)})
         return ids
 
-    def _insert_findings(self, cert_id: int, results: CheckResults) -> None:
+    def _write_findings(self, stage: str,
+                        found: Iterable[tuple[int, Finding, Sequence[str]]]) -> None:
+        """(certificate id, finding, the other certificates' hashes) rows of one stage."""
         self.conn.executemany(
-            "INSERT INTO findings (cert_id, check_id, severity, certificate, message, reference, "
-            "board, circuit, field, recorded, expected, tolerance, page, x0, top, x1, bottom, "
-            "preview, related) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
-            [(cert_id, f.check_id, int(f.severity), f.certificate, f.message, f.reference,
-              f.board, f.circuit, f.field, f.recorded, f.expected, f.tolerance, f.page,
-              *((_box(f.box) or [None] * 5)[1:]), int(f.preview), json.dumps(list(f.related)))
-             for f in results.findings],
+            "INSERT INTO findings (cert_id, stage, check_id, severity, certificate, message, "
+            "reference, board, circuit, field, recorded, expected, tolerance, page, x0, top, x1, "
+            "bottom, preview, related, related_sha256) "
+            "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
+            [(cert_id, stage, f.check_id, f.severity.slug, f.certificate, f.message,
+              f.reference, f.board, f.circuit, f.field, f.recorded, f.expected, f.tolerance,
+              f.page, *((_box(f.box) or [None] * 5)[1:]), int(f.preview),
+              json.dumps(list(f.related)), json.dumps(list(shas)))
+             for cert_id, f, shas in found],
         )
+
+    def _insert_findings(self, cert_id: int, results: CheckResults) -> None:
+        self._write_findings(STAGE_CERTIFICATE, ((cert_id, f, ()) for f in results.findings))
         self.conn.executemany(
             "INSERT OR REPLACE INTO check_runs VALUES (?,?,?,?,?,?,?)",
             [(cert_id, r.check_id, r.title, r.outcome.value, r.applied_to, r.findings,
@@ -457,25 +521,71 @@ class Corpus:
                 "SELECT id FROM certificates WHERE sha256 = ?", (sha256,)).fetchone()
         return row[0] if row else None
 
-    def findings(self, cert_id: int | None = None) -> list[Finding]:
+    def findings(self, cert_id: int | None = None, stage: str | None = STAGE_CERTIFICATE
+                 ) -> list[Finding]:
+        """Stored findings (of one certificate, of one stage: per certificate by default,
+        `STAGE_CORPUS` for the cross-certificate ones, None for both), in the order stored."""
         sql = ("SELECT check_id, severity, certificate, message, reference, board, circuit, "
                "field, recorded, expected, tolerance, page, x0, top, x1, bottom, preview, "
-               "related FROM findings")
+               "related FROM findings WHERE 1")
         args: tuple[Any, ...] = ()
         if cert_id is not None:
-            sql += " WHERE cert_id = ?"
+            sql += " AND cert_id = ?"
             args = (cert_id,)
+        if stage is not None:
+            sql += " AND stage = ?"
+            args = (*args, stage)
         out = []
         with self._guard("read"):
             for r in self.conn.execute(sql + " ORDER BY id", args):
                 box = Box(r[11], *r[12:16]) if r[11] is not None and r[12] is not None else None
                 out.append(Finding(
-                    check_id=r[0], severity=Severity(r[1]), certificate=r[2], message=r[3],
+                    check_id=r[0], severity=Severity.parse(r[1]), certificate=r[2], message=r[3],
                     reference=r[4], board=r[5], circuit=r[6], field=r[7], recorded=r[8],
                     expected=r[9], tolerance=r[10], page=r[11], box=box, preview=bool(r[16]),
                     related=tuple(json.loads(r[17])),
                 ))
         return out
+
+    def rows(self, sql: str, args: tuple[Any, ...] = ()) -> list[tuple[Any, ...]]:
+        """A read-only query's rows; any SQLite problem is a one-line CorpusError."""
+        with self._guard("read"):
+            return list(self.conn.execute(sql, args))
+
+    def replace_cross_findings(
+        self, cert_ids: Iterable[int], found: Iterable[tuple[int, Finding, Sequence[int]]]
+    ) -> None:
+        """The cross-certificate findings of these certificates, replacing the ones stored
+        before, in one transaction: (certificate id, finding, the other certificates' ids)."""
+        ids = sorted(set(cert_ids))
+        rows = list(found)
+        with self.transaction() as c:
+            sha = dict(c.execute("SELECT id, sha256 FROM certificates").fetchall()) if rows else {}
+            c.executemany("DELETE FROM findings WHERE cert_id = ? AND stage = ?",
+                          [(i, STAGE_CORPUS) for i in ids])
+            self._write_findings(STAGE_CORPUS, ((cid, f, [sha[o] for o in others if o in sha])
+                                                for cid, f, others in rows))
+
+    def set_verdicts(self, verdicts: dict[int, str]) -> None:
+        """Record the verdict keys decided for these certificates (one transaction)."""
+        with self.transaction() as c:
+            c.executemany("UPDATE certificates SET verdict = ? WHERE id = ?",
+                          [(v, cid) for cid, v in verdicts.items()])
+
+    def tested_per_day(self) -> list[tuple[str | None, str, int]]:
+        """(inspector as printed, inspection date, tested circuits) per inspector and day,
+        busiest first."""
+        return [(who, day, int(n)) for who, day, n in self.rows(
+            "SELECT inspector, inspection_date, sum(n_tested) FROM certificates "
+            "WHERE inspection_date IS NOT NULL GROUP BY inspector_norm, inspection_date "
+            "ORDER BY sum(n_tested) DESC, inspector, inspection_date")]
+
+    def shas_with_findings(self, severities: Iterable[Severity]) -> set[str]:
+        """Content hashes of the certificates with a counted (non-preview) finding, of any
+        stage, at one of these severities."""
+        return {r[0] for r in self.rows(
+            "SELECT DISTINCT c.sha256 FROM certificates c JOIN findings f ON f.cert_id = c.id "
+            f"WHERE f.{severity_in(severities)} AND f.preview = 0")}
 
     def profile(self, cert_id: int) -> Profile | None:
         """The rule profile the certificate was audited with; None when not recorded (stored
@@ -566,7 +676,12 @@ class Corpus:
         written = []
         for table in EXPORT_TABLES:
             with self._guard(f"export {table}"):
-                df = pd.read_sql_query(f"SELECT * FROM {table}", self.conn)
+                try:
+                    df = pd.read_sql_query(
+                        _EXPORT_QUERIES.get(table, f"SELECT * FROM {table}"), self.conn)
+                except pd.errors.DatabaseError as e:  # pandas wraps sqlite3's errors
+                    raise CorpusError(f"{self.path}: export {table}: "
+                                      f"{e.__cause__ or e}".replace("\n", " ")) from None
             target = out_dir / f"{table}.{format}"
             if format == "csv":  # text from PDFs: formula-like cells made spreadsheet-safe
                 df.map(spreadsheet_cell).to_csv(target, index=False)

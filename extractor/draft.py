@@ -34,6 +34,7 @@ from extractor.assemble import (
     group_lines,
     text_candidates,
 )
+from extractor.column_profile import Fit, fit
 from extractor.engines.base import PageContent, Word
 from extractor.errors import InputError
 from extractor.fields import CERTIFICATE, FIELDS, FieldKind
@@ -45,12 +46,29 @@ from extractor.header_terms import (
     normalise_header,
 )
 from extractor.layout import DEFAULT_ROW_KEY_PATTERN, parse_layout
-from extractor.tokens import parse_value
 
 ROW_KEY = re.compile(DEFAULT_ROW_KEY_PATTERN)
 LOW = 0.75  # below this confidence a choice is marked for checking
 MIN_ROWS = 3
 PAGE_OF = r"(?i)\bpage\s+\d+\s+of\s+\d+\b"
+# test readings: a table with fewer than two of these (confirmed by their values) is no schedule
+READINGS = frozenset(
+    {
+        "r1",
+        "rn",
+        "r2",
+        "r1_r2",
+        "r1_rn",
+        "r2_only",
+        "zs",
+        "max_zs",
+        "ir_live_live",
+        "ir_live_earth",
+        "ir_neutral_earth",
+        "rcd_time",
+        "rcd_time_5x",
+    }
+)
 
 
 class DraftError(InputError):
@@ -113,6 +131,24 @@ class DraftResult:
             for c in self.columns
             if c.fields
         ]
+
+
+def is_heading_line(text: str) -> bool:
+    """A board heading line ("Distribution board DB2 …", "Zdb 0.16 Ω Ipf 1.44 kA …"): a board
+    reference label, or a board label followed by a reading or an earthing system. Such lines
+    are never part of a column header, however close above it they are printed."""
+    for rx in _BOARD_REF:
+        if rx.search(text):
+            return True
+    for rx in _BOARD_VALUE:
+        m = rx.search(text)
+        if m and re.match(r"\s*[<>]?\d|\s*(?:" + EARTHING_VALUES + r")\b", text[m.end() :]):
+            return True
+    return False
+
+
+_BOARD_REF = [re.compile(p) for p in BOARD_LABELS["board_ref"]]
+_BOARD_VALUE = [re.compile(p) for f in ("ze", "ipf", "earthing") for p in BOARD_LABELS[f]]
 
 
 # --- geometry helpers -------------------------------------------------------------------------
@@ -235,7 +271,8 @@ def _find_table(page: PageContent, lines: list[Line], run: list[Line]) -> _Table
             above = [ln for ln in lines if ln.bottom <= first.top + 0.5]
             prev = first
             for ln in reversed(above):
-                if prev.top - ln.bottom > 2.2 * (first.bottom - first.top) or ":" in ln.text:
+                gap = prev.top - ln.bottom > 2.2 * (first.bottom - first.top)
+                if gap or ":" in ln.text or is_heading_line(ln.text):
                     break
                 top = ln.top
                 prev = ln
@@ -325,7 +362,13 @@ def _assign_header(table: _Table) -> list[ColumnGuess]:
                     and w.top >= c.top - 0.5
                     and w.bottom <= c.bottom + 0.5
                 ]
-                aligned = {i for w in ws for i, (a, _) in enumerate(slots) if abs(w.x0 - a) <= 2.5}
+                # (left-aligned with its data, or centred over it)
+                aligned = {
+                    i
+                    for w in ws
+                    for i, (a, b) in enumerate(slots)
+                    if abs(w.x0 - a) <= 2.5 or abs(_cx(w) - (a + b) / 2) <= 2.0
+                }
                 below = len(aligned) < 2
             if below:
                 group_boxes.append(c)
@@ -414,7 +457,8 @@ def _match_fields(cols: list[ColumnGuess], table: _Table, ambiguities: list[str]
                 if m.field not in seen or s > seen[m.field][0]:
                     seen[m.field] = (s, m.term)
         for f, (s, term) in seen.items():
-            options.append((s * _value_fit(f, col.samples), col.index, f, term))
+            share = _value_fit(f, col.samples).share
+            options.append((s * (0.5 + 0.5 * share), col.index, f, term))
     # the row-key column is the one holding the anchors
     key_col = next((c for c in cols if c.x0 - 1 <= table.key_x0 <= c.x1), cols[0])
     options.sort(key=lambda t: (-t[0], t[1]))
@@ -445,6 +489,12 @@ def _match_fields(cols: list[ColumnGuess], table: _Table, ambiguities: list[str]
         col.confidence = s
         col.term = term
         taken[f] = i
+        agree = _value_fit(f, col.samples)
+        if agree.telling >= 2 and agree.share < 0.6:
+            # heading and contents disagree: keep the heading's choice, but flag it
+            col.confidence = min(col.confidence, 0.5)
+            col.note = (col.note + "; " if col.note else "") + agree.reason
+            ambiguities.append(f"column {col.label!r} is headed like {f} but its {agree.reason}")
         rivals = [(s2, f2) for s2, f2 in by_col.get(i, []) if f2 != f and s - s2 < 0.1]
         if rivals and not _combined_sep(col.samples):
             col.confidence = min(col.confidence, 0.6)
@@ -472,18 +522,14 @@ def _combined_sep(samples: Sequence[str]) -> str | None:
     return None
 
 
-def _value_fit(field_name: str, samples: Sequence[str]) -> float:
-    """How well the sample values fit the field's kind: 0.6 … 1.0."""
-    spec = FIELDS[field_name]
-    filled = [s for s in samples if s.strip()]
-    if not filled or spec.kind is FieldKind.TEXT:
-        return 1.0
-    ok = 0
-    for s in filled:
-        text = s.split("/")[0] if _combined_sep(samples) else s
-        v = parse_value(text, spec.kind, spec.unit)
-        ok += v.kind.value != "unreadable"
-    return 0.6 + 0.4 * ok / len(filled)
+def _value_fit(field_name: str, samples: Sequence[str]) -> Fit:
+    """How well the sample values fit the field (extractor.column_profile); a combined cell
+    ("2.5/1.5") is judged by the better of its parts."""
+    sep = _combined_sep(samples)
+    if not sep:
+        return fit(field_name, samples)
+    parts = [[s.split(sep)[k] if sep in s else "" for s in samples] for k in (0, 1)]
+    return max((fit(field_name, p) for p in parts), key=lambda f: f.share)
 
 
 # --- patterns ---------------------------------------------------------------------------------
@@ -548,7 +594,10 @@ def _label_patterns(
             if f not in table or f in done:
                 continue
             nxt = kept[k + 1][0] if k + 1 < len(kept) else len(text)
-            value = text[b:nxt].strip()
+            sep = re.match(r"\s*[—–-]\s", text[b:nxt])  # "Premises — 7 Sallowfield Road"
+            if sep:
+                b += sep.end() - 1
+            value = re.sub(r"\s*[—–-]$", "", text[b:nxt].strip())
             if not value:
                 continue
             label = text[a:b].strip()
@@ -560,7 +609,7 @@ def _label_patterns(
                 vpat = r"(?P<value>[<>]?\d+(?:[.,]\d+)?)"
             elif k + 1 < len(kept):
                 nlabel = _literal(text[kept[k + 1][0] : kept[k + 1][1]].strip())
-                vpat = rf"(?P<value>.+?)\s*(?={nlabel})"
+                vpat = rf"(?P<value>.+?)\s*[—–-]?\s*(?={nlabel})"
             else:
                 vpat = r"(?P<value>.+?)\s*$"
             pattern = rf"{lab}\s*{vpat}"
@@ -572,18 +621,54 @@ def _label_patterns(
     return out
 
 
-def _recognise(lines: Sequence[Line]) -> list[str]:
-    """Distinctive text of page 1: the largest lines without digits or label values."""
+_ALL_LABELS = [
+    re.compile(p)
+    for table in (CERTIFICATE_LABELS, BOARD_LABELS)
+    for ps in table.values()
+    for p in ps
+]
+
+
+def _has_label(text: str) -> bool:
+    """A "label value" line ("Site address 7 Sallowfield Road"): a label with text after it."""
+    for rx in _ALL_LABELS:
+        m = rx.search(text)
+        if m and m.end() > m.start() and text[m.end() :].strip():
+            return True
+    return False
+
+
+def _is_data(text: str, data: set[str]) -> bool:
+    return any(d in text for d in data)
+
+
+def _recognise(
+    page_lines: Sequence[Sequence[Line]], header: Sequence[Line], data: set[str]
+) -> list[str]:
+    """What every certificate of this form prints and no other form does: the form's title
+    (the largest line of page 1 without digits, label or value) and the start of its column
+    header line. Never the sample's data: a line holding a value read by a label pattern, or
+    any "label value" line, is skipped. Each pattern is checked against the sample's text as
+    `extractor.api.recognise` searches it (lines of its first two pages)."""
+    texts = "\n".join(ln.text for lines in page_lines[:2] for ln in lines)
     scored = []
-    for ln in lines:
+    for ln in page_lines[0] if page_lines else []:
         t = ln.text.strip()
-        if len(t) < 8 or re.search(r"\d", t) or ":" in t:
+        if len(t) < 8 or re.search(r"\d", t) or ":" in t or not re.search(r"[A-Za-z]{3}", t):
+            continue
+        if _is_data(t, data) or _has_label(t) or is_heading_line(t):
             continue
         size = max(w.size for w in ln.words)
         scored.append((size, ln.top, t))
     scored.sort(key=lambda s: (-s[0], s[1]))
     keep = [s for s in scored[:2] if s[0] >= 0.8 * scored[0][0]] if scored else []
-    return ["^" + _literal(t) + "$" for _, _, t in keep]
+    out = ["(?m)^" + _literal(t) + "$" for _, _, t in keep]
+    heads = [ln for ln in header if not _is_data(ln.text, data) and not is_heading_line(ln.text)]
+    if heads:
+        best = max(heads, key=lambda ln: (len(ln.words), -ln.top))
+        if len(best.words) >= 3:
+            out.append(_literal(" ".join(w.text for w in best.words[:6])))
+    return [p for p in out if re.search(p, texts)]
 
 
 # --- TOML writing -----------------------------------------------------------------------------
@@ -741,6 +826,19 @@ def draft_layout(
         )
     ambiguities: list[str] = []
     _match_fields(cols, main, ambiguities)
+    readings = [
+        c
+        for c in cols
+        if set(c.fields) & READINGS and _value_fit(c.fields[0], c.samples).share >= 0.6
+    ]
+    if len(readings) < 2:
+        heads = ", ".join(repr(c.label) for c in cols if c.header or c.group)[:160]
+        raise DraftError(
+            src,
+            f"the table on page {main.page} has no test readings: a schedule of test results "
+            "has at least two columns of readings such as R1+R2, Zs or insulation resistance "
+            f"with values that fit them (headers found: {heads or 'none'})",
+        )
     _header_patterns(cols, main.cands)
     unplaced = [c.label for c in cols if not c.fields and (c.header or c.group)]
     unplaced += [
@@ -769,49 +867,52 @@ def draft_layout(
     board_start = next((b.pattern for b in board_labels if b.field == "board_ref"), None)
     if board_start:
         board_start = board_start.replace(r"(?P<value>.+?)", r"(?P<value>\S+)", 1)
-        board_start = re.sub(r"\\s\*\(\?=.*\)$", "", board_start)
+        board_start = re.sub(r"(?:\\s\*\[—–-\]\?)?\\s\*\(\?=.*\)$", "", board_start)
     table_lines = {id(ln) for t in tables for ln in t.rows}
-    board_ids = {id(ln) for ln in board_lines}
-    cert_lines = [
-        ln
-        for p in pages[:2]
-        for ln in page_lines[p.number]
-        if id(ln) not in table_lines and id(ln) not in board_ids
-    ]
+    cert_lines = [ln for p in pages[:2] for ln in page_lines[p.number] if id(ln) not in table_lines]
     cert_labels = _label_patterns(
         cert_lines,
         {k: v for k, v in CERTIFICATE_LABELS.items() if k not in ("ze", "ipf", "earthing")},
         "certificate",
         {**CERTIFICATE_LABELS, **BOARD_LABELS},
     )
-    recognise = _recognise(page_lines[pages[0].number])
+    data = {lab.example for lab in board_labels + cert_labels if len(lab.example) >= 4}
+    header_lines = (
+        [
+            ln
+            for ln in page_lines[main.page]
+            if ln.top >= main.header_top - 0.5 and ln.bottom <= main.header_bottom + 1
+        ]
+        if main.page <= 2
+        else []
+    )
+    recognise = _recognise([page_lines[p.number] for p in pages[:2]], header_lines, data)
 
+    # lines the table may hold that are no rows: "Page n of m" anywhere, and footers printed
+    # on every page (the same words, digits aside, at the same height on two pages or more)
+    table_ids = {id(ln) for t in tables for ln in t.rows}
+    heights = {p.number: p.height for p in pages}
+    ignore = [PAGE_OF] + _footers(page_lines, heights, table_ids, data)
     # what ends a table: the first line well below the last row, when nothing else bounds it
     end: list[str] = []
-    ignore: list[str] = []
     for t in tables:
-        if t.page not in sched_pages:
+        if t.page not in sched_pages or t.ruled:
             continue
         last = t.rows[-1]
         pitch = (t.rows[-1].top - t.rows[0].top) / max(1, len(t.rows) - 1) or 12.0
-        for ln in page_lines[t.page]:
-            if re.search(PAGE_OF, ln.text) and t.header_bottom < ln.top < last.bottom + 3 * pitch:
-                if PAGE_OF not in ignore:
-                    ignore.append(PAGE_OF)
-        below = [ln for ln in page_lines[t.page] if ln.top > last.bottom + 0.8 * pitch]
-        if below and not t.ruled:
-            nxt = below[0]
-            if board_start and re.search(board_start, nxt.text):
-                continue
-            words = nxt.text.split()[:4]
-            pat = "^" + r"\s+".join(re.sub(r"\\?\d+", r"\\d+", re.escape(w)) for w in words)
-            if pat not in end:
-                end.append(pat)
-
-    def tidy(p: str) -> str:
-        return p.replace(r"\d+\d+", r"\d+")
-
-    end = [tidy(e) for e in end]
+        below = [
+            ln
+            for ln in page_lines[t.page]
+            if ln.top > last.bottom + 0.8 * pitch and not any(re.search(p, ln.text) for p in ignore)
+        ]
+        if not below:
+            continue
+        nxt = below[0]
+        if (board_start and re.search(board_start, nxt.text)) or is_heading_line(nxt.text):
+            continue  # the next board's block: the table goes on there
+        pat = _line_start(nxt.text, data)
+        if pat and pat not in end:
+            end.append(pat)
     labels = board_labels + cert_labels
     result_name = name or _slug(src)
     toml = _toml(
@@ -842,6 +943,57 @@ def draft_layout(
     )
     _self_check(result, pages, main)
     return result
+
+
+def _words_pattern(words: Sequence[str]) -> str:
+    return "^" + r"\s+".join(re.sub(r"(?:\\?\d)+", r"\\d+", re.escape(w)) for w in words)
+
+
+def _line_start(text: str, data: set[str]) -> str | None:
+    """A pattern for the fixed start of a line: its first words up to a label's colon (or four
+    words), digits generalised; None when those words hold the sample's data."""
+    words = text.split()
+    cut = next((k + 1 for k, w in enumerate(words[:6]) if w.endswith(":")), min(4, len(words)))
+    head = words[:cut]
+    if not head or _is_data(" ".join(head), data) or not re.search(r"[A-Za-z]{2}", head[0]):
+        return None
+    return _words_pattern(head)
+
+
+def _footers(
+    page_lines: dict[int, list[Line]],
+    heights: dict[int, float],
+    table_ids: set[int],
+    data: set[str],
+) -> list[str]:
+    """Lines printed in the bottom margin of two pages or more at the same height (digits
+    aside): page footers. Their fixed start becomes an `ignore` pattern, so a footer printed
+    inside a table is never read as a continuation line."""
+    seen: dict[str, list[tuple[int, float]]] = {}
+    for number, lines in page_lines.items():
+        for ln in lines:
+            if id(ln) in table_ids or len(ln.text) < 8 or ln.top < 0.85 * heights[number]:
+                continue
+            key = re.sub(r"\d+", "#", ln.text)
+            seen.setdefault(key, []).append((number, ln.top))
+    out: list[str] = []
+    for key, where in seen.items():
+        pages = {p for p, _ in where}
+        if len(pages) < 2 or max(t for _, t in where) - min(t for _, t in where) > 6:
+            continue
+        text = next(
+            ln.text
+            for lines in page_lines.values()
+            for ln in lines
+            if re.sub(r"\d+", "#", ln.text) == key
+        )
+        words = text.split()[:6]
+        if _is_data(" ".join(words), data) or is_heading_line(text):
+            continue
+        pat = _words_pattern(words)
+        if pat not in out:
+            out.append(pat)
+    return out
 
 
 def _same_form(t: _Table, main: _Table) -> bool:

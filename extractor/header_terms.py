@@ -106,6 +106,7 @@ CIRCUIT_TERMS: list[Term] = [
         0.55,
         I + r"(?:device|ocpd|protective|overcurrent|mcb|breaker).*\|\s*type\b",
         I + r"device\s+type",
+        I + r"^(?:ocpd|mcb|breaker|overcurrent\s+device)\s+type\b",
         I + r"^type$",
         I + r"^curve$",
         I + r"type\s*\(?curve",
@@ -130,10 +131,25 @@ CIRCUIT_TERMS: list[Term] = [
         I + r"capacity\s*\(?kA",
     ),
     *_t("rcd_type", 0.85, I + r"rcd.*\|\s*type\b", I + r"rcd\s+type", I + r"^rcd$"),
+    # A2:2022 model schedule: the RCD's own standard and rating, under an "RCD" group or
+    # printed as one label
+    *_t(
+        "rcd_standard",
+        0.95,
+        I + r"^rcd\b.*\|\s*BS\s*\(?\s*EN\s*\)?",
+        I + r"^rcd\s+BS\s*\(?\s*EN",
+        I + r"rcd\s+(?:standard|BS\s*(?:no|number))",
+    ),
+    *_t(
+        "rcd_rating",
+        0.95,
+        I + r"^rcd\b.*\|\s*(?:rating|rated\s+current|I\s*n\s*\(A\))",
+        I + r"^rcd\s+(?:rating|rated\s+current)\b(?!.*residual)",
+    ),
     *_t(
         "rcd_idn",
         0.9,
-        r"I\s*Δ\s*n",
+        r"^(?!.*(?:\btime\b|\(ms\)|\bms\b)).*I\s*Δ\s*n",
         I + r"rcd.*(?:rated|operating)\s+(?:residual\s+)?current",
         I + r"\bI\s*dn\b",
         I + r"rcd.*\(mA\)$",
@@ -165,6 +181,9 @@ CIRCUIT_TERMS: list[Term] = [
         I + r"neutral\s+end\s+to\s+end",
     ),
     *_t("r2", 0.95, r"^r\s*2\b", r"\|\s*r\s*2\b", I + r"r2\s*\(cpc\)", I + r"cpc\s+end\s+to\s+end"),
+    *_t("r1", 0.9, I + r"^ring\s+r1\b"),
+    *_t("rn", 0.9, I + r"^ring\s+rn\b"),
+    *_t("r2", 0.9, I + r"^ring\s+r2\b"),
     *_t("r1_r2", 0.97, I + r"R\s*1\s*\+\s*R\s*2", I + r"\(R1\s*\+\s*R2\)", I + r"R1R2"),
     *_t("r1_rn", 0.97, I + r"R\s*1\s*\+\s*R\s*n"),
     *_t("r2_only", 0.9, r"^R\s*2$", r"\|\s*R\s*2$", r"^R\s*2\s*\(", I + r"continuity.*\|\s*R2$"),
@@ -174,6 +193,7 @@ CIRCUIT_TERMS: list[Term] = [
         I + r"test\s+volt",
         I + r"^\(?V\)?$",
         I + r"insulation.*\|\s*V$",
+        I + r"insulation.*\|\s*test\s*V\b",
         I + r"\bV\s*dc\b",
     ),
     *_t(
@@ -193,6 +213,13 @@ CIRCUIT_TERMS: list[Term] = [
         I + r"line\s*[-/–]\s*earth",
         I + r"live\s+to\s+earth",
         I + r"\bL\s*[-/–]\s*cpc\b",
+    ),
+    *_t(
+        "ir_neutral_earth",
+        0.95,
+        I + r"\bN\s*[-/–]\s*E\b",
+        I + r"neutral\s*[-/–]\s*earth",
+        I + r"neutral\s+to\s+earth",
     ),
     *_t(
         "ir_live_earth",
@@ -228,12 +255,19 @@ CIRCUIT_TERMS: list[Term] = [
     *_t(
         "rcd_button",
         0.9,
-        I + r"test\s+button",
+        I + r"^(?!.*(?:afdd|arc\s+fault)).*test\s+button",
         I + r"rcd.*button",
         I + r"^button$",
         I + r"rcd.*\|\s*(?:test|btn)$",
     ),
     *_t("afdd_button", 0.95, I + r"afdd", I + r"arc\s+fault"),
+    *_t("spd_type", 0.9, I + r"\bSPD\b.*\btype\b", I + r"surge.*\btype\b"),
+    *_t(
+        "spd_indicator",
+        0.9,
+        I + r"\bSPD\b.*(?:indicator|status)",
+        I + r"surge.*(?:indicator|status)",
+    ),
     *_t("remarks", 0.95, I + r"remarks?", I + r"comments?", I + r"^notes?$", I + r"observations?"),
 ]
 
@@ -244,6 +278,7 @@ BOARD_LABELS: dict[str, list[str]] = {
         r"(?i)(?:distribution|consumer)\s+(?:board|unit)\b\s*[:.]?",
         r"(?i)\bDB\s*(?:ref|no)\.?\s*[:.]?",
         r"(?i)^board\s*[:.]",
+        r"(?i)^board\b(?=\s+[A-Z]{0,3}\d)",
     ],
     "location": [r"(?i)(?:board\s+)?location\s*[:.]?"],
     "supplied_from": [r"(?i)supplied\s+from\s*[:.]?", r"(?i)fed\s+from\s*[:.]?"],
@@ -257,42 +292,62 @@ BOARD_LABELS: dict[str, list[str]] = {
         r"(?i)\bPFC\s*(?:\(kA\))?\s*[:=]?",
         r"(?i)prospective\s+fault\s+current\s*(?:\(kA\))?\s*[:=]?",
     ],
-    "earthing": [r"(?i)earthing\s*(?:arrangement|system)?\s*[:.]?"],
+    "earthing": [
+        r"(?i)earthing\s*(?:arrangement|system)?\s*[:.]?",
+        r"(?i)\bsystem\s*[:.]?(?=\s*(?:TN|TT|IT)\b)",
+    ],
     "board_polarity": [r"(?i)(?:supply\s+)?polarity\s+(?:confirmed|checked)\s*[:.]?"],
 }
 
 CERTIFICATE_LABELS: dict[str, list[str]] = {
     "cert_number": [
-        r"(?i)(?:certificate|report|cert\.?)\s*(?:no\.?|number|ref(?:erence)?)\s*[:.]?",
+        r"(?i)(?:certificate|report|cert\.?|record|job)\s*(?:no\.?|number|ref(?:erence)?\.?)\s*[:.]?",
         r"(?i)serial\s+no\.?\s+of\s+(?:this\s+)?(?:certificate|report)\s*[:.]?",
     ],
     "report_type": [
         r"(?i)report\s+type\s*[:.]?",
         r"(?i)type\s+of\s+(?:certificate|report)\s*[:.]?",
     ],
-    "address": [r"(?i)(?:installation|site|property)\s+address\s*[:.]?", r"(?i)^address\s*[:.]"],
-    "client": [r"(?i)client(?:\s+name)?\s*[:.]?", r"(?i)customer\s*[:.]"],
+    "address": [
+        r"(?i)(?:installation|site|property|premises)\s+address\s*[:.]?",
+        r"(?i)^address\s*[:.]",
+        r"(?i)^premises\b\s*[:.]?",
+    ],
+    "client": [
+        r"(?i)client(?:\s+name)?\s*[:.]?",
+        r"(?i)^customer\b\s*[:.]?",
+        r"(?i)(?:person\s+)?ordering\s+the\s+(?:report|work)\s*[:.]?",
+        r"(?i)^ordered\s+by\b\s*[:.]?",
+    ],
     "contractor": [
         r"(?i)contractor(?:\s+name)?\s*[:.]?",
         r"(?i)company\s*[:.]",
         r"(?i)electrical\s+contractor\s*[:.]?",
+        r"(?i)^(?:testing|contracting)\s+(?:firm|company)\b\s*[:.]?",
+        r"(?i)^company\b\s*[:.]?",
     ],
     "inspection_date": [
         r"(?i)date\s+of\s+(?:inspection|test(?:ing)?)\s*[:.]?",
         r"(?i)(?:inspection|test)\s+date\s*[:.]?",
         r"(?i)date\s+inspected\s*[:.]?",
+        r"(?i)^tested\s+on\b\s*[:.]?",
+        r"(?i)^test\s+date\b\s*[:.]?",
     ],
     "next_inspection": [
         r"(?i)next\s+inspection(?:\s+(?:due|date|by))?\s*[:.]?",
         r"(?i)re-?inspect(?:ion)?\s+(?:by|due)\s*[:.]?",
+        r"(?i)next\s+test\s+(?:due|date|by)\s*[:.]?",
+        r"(?i)^re-?test\s+(?:by|due)\b\s*[:.]?",
     ],
     "inspector": [
         r"(?i)(?:inspector|inspected\s+by|tested\s+by|inspector\s+name)\s*[:.]?",
         r"(?i)name\s+of\s+inspector\s*[:.]?",
+        r"(?i)^engineer\b\s*[:.]?",
     ],
     "instrument_serial": [
         r"(?i)(?:instrument|tester|test\s+instrument|meter)\s*(?:serial)?\s*(?:no\.?|number|serial)\s*[:.]?",
         r"(?i)multi-?function\s+(?:tester|instrument)\s*[:.]?",
+        r"(?i)^(?:instrument|tester)\b\s*[:.]?(?=\s*(?:—|–|-)?\s*\S*\d)",
     ],
     "earthing": [r"(?i)earthing\s*(?:arrangement|system)\s*[:.]?"],
     "ze": [r"Z\s*e\s*(?:\((?:Ω|ohms?)\))?\s*[:=]"],

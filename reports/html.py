@@ -11,19 +11,29 @@ from functools import lru_cache
 from pathlib import Path
 
 from jinja2 import Environment, FileSystemLoader, StrictUndefined
+from markupsafe import Markup
 
 from checks.profile import Profile
 from checks.runner import CheckResults
 from extractor.records import Certificate
-from reports.model import RelatedFinding, ReportView, build_report
+from reports.model import (
+    SEVERITY_LEGEND,
+    SEVERITY_LEGEND_NOTE,
+    RelatedFinding,
+    ReportView,
+    build_report,
+    severity_css,
+)
 
 TEMPLATES = Path(__file__).parent / "templates"
 
 
 @lru_cache(maxsize=1)
-def _environment() -> Environment:
-    """One environment per process: templates are compiled once, not per certificate."""
-    return Environment(
+def environment() -> Environment:
+    """One environment per process (certificate and portfolio pages): templates are compiled
+    once, not per certificate. The severity legend and marks are globals, defined once in
+    ``reports.model``."""
+    env = Environment(
         loader=FileSystemLoader(TEMPLATES),
         autoescape=True,  # every value comes from an untrusted PDF
         undefined=StrictUndefined,
@@ -31,15 +41,21 @@ def _environment() -> Environment:
         lstrip_blocks=True,
         keep_trailing_newline=True,
     )
+    env.globals.update(
+        severity_css=Markup(severity_css()),  # our own constant text, never from a PDF
+        severity_legend=SEVERITY_LEGEND,
+        severity_legend_note=SEVERITY_LEGEND_NOTE,
+    )
+    return env
 
 
 def warm_up() -> None:
     """Compile the template now (e.g. before forking workers)."""
-    _environment().get_template("certificate.html.j2")
+    environment().get_template("certificate.html.j2")
 
 
 def render_view(view: ReportView) -> str:
-    return _environment().get_template("certificate.html.j2").render(r=view)
+    return environment().get_template("certificate.html.j2").render(r=view)
 
 
 def render_html(

@@ -16,6 +16,15 @@ Format history:
   or null) and ``readings`` (board, circuit, field, here, there, relation — ``equal``, ``near``
   for ±1 in the last printed digit, or ``different`` — board_there, circuit_there). Version 1
   documents are still read by ``certificate_from_json``.
+* 3 — the ``related`` findings count: ``verdict`` and ``counts`` include them, the verdict key
+  ``readings_copied`` (reports/verdict.py) is new, and ``verdict.copies`` lists the messages
+  of the readings-match findings (each naming the other certificate and the likely source).
+  Versions 1 and 2 are still read.
+* 4 — check outcomes say what was found: ``check_runs[].outcome`` is ``raised_nothing``,
+  ``found``, ``did_not_apply`` or ``turned_off`` (were ``passed``, ``failed``,
+  ``not_applicable``, ``disabled``), with ``outcome_label`` as printed ("found 3"); adds
+  ``cautions`` (after ``verdict``): the cautions every report carries (a desk check cannot show
+  an installation is safe…). Versions 1 to 3 are still read.
 
 ``certificate_from_json`` rebuilds the ``Certificate`` from a document, so checks can be
 re-run on a saved report without the PDF.
@@ -42,11 +51,11 @@ from extractor.records import (
     Value,
     ValueKind,
 )
-from reports.model import RelatedFinding
+from reports.model import CAUTIONS, RelatedFinding
 from reports.verdict import decide
 
-FORMAT_VERSION = 2
-READABLE_VERSIONS = (1, 2)
+FORMAT_VERSION = 4
+READABLE_VERSIONS = (1, 2, 3, 4)
 
 
 def _box(box: Box | None) -> dict[str, Any] | None:
@@ -67,14 +76,16 @@ def report_dict(
     related: Sequence[RelatedFinding] = (),
 ) -> dict[str, Any]:
     profile = profile or results.profile
+    counted = results.with_findings(rf.finding for rf in related)  # verdict and counts
     if generated_at is None:
         generated_at = datetime.now(UTC).isoformat(timespec="seconds")
     return {
         "format_version": FORMAT_VERSION,
         "certvet_version": certvet_version,
         "generated_at": generated_at,
-        "verdict": decide(cert, results).to_dict(),
-        "counts": {s.slug: results.count(s) for s in sorted(Severity, reverse=True)},
+        "verdict": decide(cert, counted).to_dict(),
+        "cautions": list(CAUTIONS),
+        "counts": {s.slug: counted.count(s) for s in sorted(Severity, reverse=True)},
         "certificate": {
             "name": cert.name,
             "source": cert.source,
@@ -113,6 +124,7 @@ def report_dict(
                 "check_id": r.check_id,
                 "title": r.title,
                 "outcome": r.outcome.value,
+                "outcome_label": r.outcome.describe(r.findings),
                 "applied_to": r.applied_to,
                 "findings": r.findings,
                 "options": r.options,

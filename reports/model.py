@@ -27,14 +27,40 @@ CAUTIONS: tuple[str, ...] = (
     "competent to do so.",
 )
 
-OUTCOME_LABELS: dict[Outcome, str] = {
-    Outcome.PASSED: "passed",
-    Outcome.FAILED: "failed",
-    Outcome.NOT_APPLICABLE: "not applicable",
-    Outcome.DISABLED: "disabled",
-}
-
 SEVERITIES_WORST_FIRST: tuple[Severity, ...] = tuple(sorted(Severity, reverse=True))
+
+SEVERITY_LEGEND_NOTE = (
+    "Severities are certvet's own scale for what this desk check found in the recorded "
+    "figures. They are not the certificate's classification codes (C1, C2, C3, FI), which are "
+    "shown as plain text, exactly as printed."
+)
+
+
+@dataclass(frozen=True)
+class SeverityKey:
+    """One entry of the severity legend."""
+
+    slug: str
+    mark: str
+    label: str
+    meaning: str
+    outline: str  # how a questioned cell of the schedule is outlined (the template's CSS)
+
+
+_OUTLINES = {Severity.IMPOSSIBLE: "double", Severity.BREACH: "solid", Severity.QUERY: "dashed",
+             Severity.NOTE: "dotted"}
+SEVERITY_LEGEND: tuple[SeverityKey, ...] = tuple(
+    SeverityKey(s.slug, s.mark, s.label, s.meaning, _OUTLINES[s]) for s in SEVERITIES_WORST_FIRST
+)
+
+
+def severity_css() -> str:
+    """CSS that puts each severity's mark before its badge (and a questioned cell's tag), so a
+    severity is told by its shape and label, never by colour alone. Marks: ``Severity.mark``."""
+    return "\n".join(
+        f'.sev.sev-{k.slug}::before, .sev-{k.slug} > .tag::before {{ content: "{k.mark}\\a0"; }}'
+        for k in SEVERITY_LEGEND
+    )
 
 # Certificate-level details shown in the header, in order.
 HEADER_FIELDS: tuple[str, ...] = (
@@ -432,7 +458,7 @@ def _runs(results: CheckResults, profile: Profile) -> list[CheckRunView]:
                 check_id=run.check_id,
                 title=run.title,
                 outcome=run.outcome.value,
-                outcome_label=OUTCOME_LABELS[run.outcome],
+                outcome_label=run.outcome.describe(run.findings),
                 applied_to=run.applied_to,
                 findings=run.findings,
                 severity=sev.label if sev is not None else "",
@@ -445,8 +471,13 @@ def _runs(results: CheckResults, profile: Profile) -> list[CheckRunView]:
 
 def _run_summary(results: CheckResults, circuits: int) -> str:
     n = len(results.runs)
-    by = {o: sum(1 for r in results.runs if r.outcome is o) for o in Outcome}
-    parts = [f"{by[o]} {OUTCOME_LABELS[o]}" for o in Outcome if by[o]]
+    by = {o: [r for r in results.runs if r.outcome is o] for o in Outcome}
+    found = sum(r.findings for r in by[Outcome.FOUND])
+    parts = [
+        (f"{len(by[o])} {o.label} {found} finding{'s' if found != 1 else ''}"
+         if o is Outcome.FOUND else f"{len(by[o])} {o.label}")
+        for o in Outcome if by[o]
+    ]
     head = (f"{n} check{'s' if n != 1 else ''} run on {circuits} "
             f"circuit{'s' if circuits != 1 else ''}")
     return head + (": " + ", ".join(parts) if parts else "")
@@ -462,6 +493,7 @@ def build_report(
     related: Sequence[RelatedFinding] = (),
 ) -> ReportView:
     profile = profile or results.profile
+    counted = results.with_findings(rf.finding for rf in related)  # verdict and counts
     runs = {r.check_id: r for r in results.runs}
     groups, by_index = _finding_views(results.findings, runs)
     pairs = [(f, by_index[i]) for i, f in enumerate(results.findings)]
@@ -514,9 +546,9 @@ def build_report(
         subtitle=cert.text("address"),
         certvet_version=certvet_version,
         generated_at=generated_at,
-        verdict=decide(cert, results),
-        counts=[SeverityCount(s.slug, s.label, results.count(s)) for s in SEVERITIES_WORST_FIRST],
-        preview_count=sum(1 for f in results.findings if f.preview),
+        verdict=decide(cert, counted),
+        counts=[SeverityCount(s.slug, s.label, counted.count(s)) for s in SEVERITIES_WORST_FIRST],
+        preview_count=sum(1 for f in counted.findings if f.preview),
         details=details,
         source=SourceView(cert.source, cert.sha256, cert.layout, cert.engine, cert.page_count),
         finding_groups=groups,
@@ -537,18 +569,6 @@ def build_report(
 
 RELATION_LABELS: dict[str, str] = {"equal": "equal", "near": "±1 in the last digit",
                                    "different": "different"}
-# titles of the cross-certificate checks (corpus.crosscheck; not in the catalogue)
-CROSS_CHECK_TITLES: dict[str, str] = {
-    "schedule-copied-from-other-address": "Readings match a certificate for another address",
-    "schedule-repeats-earlier-at-address": "Readings repeat an earlier certificate here",
-    "certificate-number-reused": "Certificate number used on another certificate",
-    "inspector-workload-implausible": "More circuits in a day than one inspector can test",
-    "instrument-workload-implausible": "More circuits in a day than one instrument can test",
-}
-READINGS_MATCH_CHECKS = frozenset({"schedule-copied-from-other-address",
-                                   "schedule-repeats-earlier-at-address"})
-
-
 @dataclass(frozen=True)
 class OtherCertificate:
     """A certificate a cross-certificate finding points at."""
@@ -657,7 +677,7 @@ def _related_views(related: Sequence[RelatedFinding]) -> list[RelatedView]:
                    if rf.readings else "")
         views.append(RelatedView(
             number=number, check_id=f.check_id,
-            check_title=CROSS_CHECK_TITLES.get(f.check_id) or _check_title(f.check_id, {}),
+            check_title=_check_title(f.check_id, {}),
             severity=f.severity.slug, severity_label=f.severity.label, location=_location(f),
             message=f.message, recorded=f.recorded or "", reference=f.reference,
             others=rf.others, fields=fields, rows=rows, summary=summary,
@@ -669,16 +689,7 @@ def _related_note(related: Sequence[RelatedFinding]) -> str:
     """One sentence for the verdict box; "" when there is nothing to say."""
     if not related:
         return ""
-    copies = sorted({o.name for rf in related if rf.finding.check_id in READINGS_MATCH_CHECKS
-                     for o in rf.others})
-    rest = sum(1 for rf in related if rf.finding.check_id not in READINGS_MATCH_CHECKS)
-    parts = []
-    if copies:
-        parts.append("Readings on this certificate match those of "
-                     + ("certificate " if len(copies) == 1 else "certificates ")
-                     + ", ".join(copies) + ": ask how they were measured.")
-    if rest:
-        parts.append(f"The comparison with other certificates raised {rest} more "
-                     f"quer{'y' if rest == 1 else 'ies'}.")
-    return " ".join(parts) + (" See \u201cCompared with other certificates\u201d below; these "
-                              "queries do not change the outcome above.")
+    n = len(related)
+    return (f"The comparison with other certificates raised {n} finding{'s' if n != 1 else ''}, "
+            "counted in the outcome above: see \u201cCompared with other certificates\u201d "
+            "below.")

@@ -32,12 +32,10 @@ from collections import Counter, defaultdict
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from jinja2 import Environment, FileSystemLoader, StrictUndefined
 from markupsafe import Markup
 
+from checks.catalogue.across import ScheduleCopiedFromOtherAddress
 from reports import charts
-
-TEMPLATES = Path(__file__).parent / "templates"
 
 SEVERITY_POINTS = {"impossible": 10.0, "breach": 5.0, "query": 2.0, "note": 0.0}
 MAX_PER_CHECK = 3
@@ -49,14 +47,14 @@ CROSS_POINTS = {
     "inspector-workload-implausible": 6.0,
     "instrument-workload-implausible": 6.0,
 }
-COPIED = "schedule-copied-from-other-address"
+COPIED = ScheduleCopiedFromOtherAddress.id
 INCOMPLETE_POINTS = 2.0
 SHOW_PAIR_ROWS = 30  # aligned circuits shown per pair before "and N more"
 FIELD_ORDER = ("r1", "rn", "r2", "r1_r2", "r1_rn", "r2_only", "ir_live_live", "ir_live_earth",
                "zs", "rcd_time", "rcd_time_5x")
 
 SCORE_RULES: tuple[tuple[str, str], ...] = (
-    ("Impossible or unsafe finding", "10 each"),
+    ("Impossible-as-recorded finding", "10 each"),
     ("Breach finding", "5 each"),
     ("Query finding", "2 each"),
     ("Note", "0"),
@@ -428,22 +426,14 @@ def _name(certs: dict[int, CertInput], cid: int) -> str:
     return c.name if c else f"certificate #{cid} (outside this batch)"
 
 
-def _environment() -> Environment:
-    return Environment(
-        loader=FileSystemLoader(TEMPLATES),
-        autoescape=True,  # every value comes from an untrusted PDF
-        undefined=StrictUndefined,
-        trim_blocks=True,
-        lstrip_blocks=True,
-    )
-
-
 def render_portfolio(data: PortfolioData, path: Path) -> Path:
     """Write the portfolio page to `path` (self-contained: no scripts, no network)."""
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
     view = build_view(data, path)
-    html = _environment().get_template("portfolio.html.j2").render(v=view)
+    from reports.html import environment
+
+    html = environment().get_template("portfolio.html.j2").render(v=view)
     path.write_text(html, encoding="utf-8")
     return path
 

@@ -11,12 +11,14 @@ from __future__ import annotations
 from dataclasses import dataclass
 from enum import StrEnum
 
+from checks.catalogue.across import READINGS_MATCH_CHECKS
 from checks.model import Severity
 from checks.runner import CheckResults
 from extractor.records import Certificate, ValueKind
 
 
 class VerdictKey(StrEnum):
+    READINGS_COPIED = "readings_copied"
     NOT_CREDIBLE = "not_credible"
     FAILS_REQUIREMENTS = "fails_requirements"
     QUERIES = "queries"
@@ -32,10 +34,20 @@ class VerdictWording:
 
 
 WORDING: dict[VerdictKey, VerdictWording] = {
+    VerdictKey.READINGS_COPIED: VerdictWording(
+        "readings copied",
+        "The readings on this certificate match those of another certificate, named below. "
+        "Independent tests do not give the same readings twice, so at most one of the two "
+        "records measurements of its own installation. Rely on neither until the contractor "
+        "has shown how the readings were taken.",
+        "impossible",
+    ),
     VerdictKey.NOT_CREDIBLE: VerdictWording(
         "results not credible",
-        "At least one recorded result is physically impossible or shows an immediate danger. "
-        "Do not rely on this certificate until the contractor has explained or re-tested it.",
+        "At least one set of recorded figures cannot all be right as written (for example "
+        "R1+R2 larger than the measured Zs): the record is wrong somewhere, which by itself "
+        "says nothing about danger. Do not rely on this certificate until the contractor has "
+        "explained or re-tested it.",
         "impossible",
     ),
     VerdictKey.FAILS_REQUIREMENTS: VerdictWording(
@@ -58,11 +70,16 @@ WORDING: dict[VerdictKey, VerdictWording] = {
     ),
     VerdictKey.NO_CONCERNS: VerdictWording(
         "no concerns found",
-        "The recorded results passed every check that applied. This is a check of the "
+        "Every check that applied raised nothing. This is a check of the "
         "paperwork only, not of the installation.",
         "clear",
     ),
 }
+
+# A file that could not be audited (unreadable, encrypted, no layout…), in every console line
+# and summary. Never "failed": a reader would take it for a check that found something (a
+# check's outcome is "found N", see checks.model.Outcome).
+NOT_AUDITED = "not audited"
 
 _BY_SEVERITY = {
     Severity.IMPOSSIBLE: VerdictKey.NOT_CREDIBLE,
@@ -78,6 +95,7 @@ class Verdict:
     explanation: str
     tone: str
     incomplete_reasons: tuple[str, ...] = ()  # why the audit could not cover everything
+    copies: tuple[str, ...] = ()  # the readings-match findings: the other certificate named
 
     @property
     def label(self) -> str:
@@ -95,6 +113,7 @@ class Verdict:
             "explanation": self.explanation,
             "complete": self.complete,
             "incomplete_reasons": list(self.incomplete_reasons),
+            "copies": list(self.copies),
         }
 
 
@@ -124,14 +143,18 @@ def decide(cert: Certificate, results: CheckResults) -> Verdict:
     """The verdict for one audited certificate."""
     reasons = incomplete_reasons(cert)
     worst = results.worst()
-    if worst is not None and worst in _BY_SEVERITY:
+    copied = [f for f in results.findings if f.check_id in READINGS_MATCH_CHECKS and not f.preview]
+    if copied and max(f.severity for f in copied) == worst:
+        key = VerdictKey.READINGS_COPIED  # the copy is the worst: it is the verdict
+    elif worst is not None and worst in _BY_SEVERITY:
         key = _BY_SEVERITY[worst]
     elif reasons:
         key = VerdictKey.INCOMPLETE
     else:
         key = VerdictKey.NO_CONCERNS
     w = WORDING[key]
-    return Verdict(key, w.headline, w.explanation, w.tone, reasons)
+    return Verdict(key, w.headline, w.explanation, w.tone, reasons,
+                   tuple(f.message for f in copied))
 
 
 verdict_for = decide  # the name certvet.api uses

@@ -48,3 +48,15 @@ def test_cli_start_up_imports_no_heavy_library() -> None:
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60)
     assert out.returncode == 0, out.stderr
     assert out.stdout.strip() == "", f"imported at CLI start-up: {out.stdout.strip()}"
+
+
+def test_no_import_cycles_between_modules() -> None:
+    """No two modules import each other, directly or through others (e.g. batch and
+    distributed, cli and cli_batch), counting imports inside functions too."""
+    import grimp
+
+    graph = grimp.build_graph(*LAYERS)
+    cycles = [(a, b) for a in sorted(graph.modules) for b in sorted(graph.modules)
+              if a < b and graph.direct_import_exists(importer=a, imported=b)
+              and graph.chain_exists(importer=b, imported=a)]
+    assert cycles == []

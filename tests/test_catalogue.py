@@ -26,7 +26,7 @@ def test_declared_metadata(cls: type) -> None:
     assert cls.title and cls.reference.strip()
     assert isinstance(cls.severity, Severity)
     assert cls.basis in BASES
-    assert cls.scope in ("circuit", "board", "certificate")
+    assert cls.scope in ("circuit", "board", "certificate", "corpus")
     sections = cls.doc_sections()
     missing = [s for s in DOC_SECTIONS if not sections.get(s)]
     assert not missing, f"{cls.id}: docstring lacks sections {missing}"

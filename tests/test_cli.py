@@ -25,7 +25,7 @@ def test_clean_certificate_exits_0(tmp_path: Path) -> None:
     assert "NO CONCERNS FOUND" in res.output
     assert (tmp_path / "grid-clean-01.html").exists()
     data = json.loads((tmp_path / "grid-clean-01.json").read_text())
-    assert data["format_version"] == 2
+    assert data["format_version"] == 4
 
 
 def test_breach_exits_1(tmp_path: Path) -> None:
@@ -42,8 +42,8 @@ def test_bad_files_listed_and_others_still_audited(tmp_path: Path) -> None:
     res = runner.invoke(app, ["audit", str(junk), str(DEMO / "grid-clean-01.pdf"), str(empty),
                               "-l", str(LAYOUTS), "-o", str(tmp_path / "out")])
     assert res.exit_code == 3, res.output
-    assert "3 file(s): 1 audited, 2 failed" in res.output
-    failed = [ln for ln in res.output.splitlines() if ln.strip().startswith("failed:")]
+    assert "3 file(s): 1 audited, 2 not audited" in res.output
+    failed = [ln for ln in res.output.splitlines() if ln.strip().startswith("not audited:")]
     assert len(failed) == 2
     assert any("notes.pdf" in ln and "not a PDF" in ln for ln in failed)
     assert any("empty.pdf" in ln and "empty" in ln for ln in failed)
@@ -92,11 +92,11 @@ def test_real_process_smoke(tmp_path: Path) -> None:
                          text=True, env=env, timeout=600)
     assert out.returncode == 0, out.stdout + out.stderr
     n = len(list(DEMO.glob("*.pdf")))
-    assert f"{n} file(s): {n} audited, 0 skipped, 0 failed" in out.stdout
+    assert f"{n} file(s): {n} audited, 0 skipped, 0 not audited" in out.stdout
     assert "schedule-copied-from-other-address" in out.stdout
     assert len(list((tmp_path / "certificates").glob("*.html"))) == n
     assert (tmp_path / "portfolio.html").exists()
     again = subprocess.run([str(exe), "demo", "--out", str(tmp_path)], capture_output=True,
                            text=True, env=env, timeout=600)
     assert again.returncode == 0
-    assert f"{n} file(s): 0 audited, {n} skipped, 0 failed" in again.stdout
+    assert f"{n} file(s): 0 audited, {n} skipped, 0 not audited" in again.stdout

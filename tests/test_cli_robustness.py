@@ -173,8 +173,8 @@ def test_audit_and_batch_word_a_failed_file_the_same(tmp_path: Path) -> None:
     _, audit_out = _run(["audit", junk, "-l", LAYOUTS, "-o", tmp_path / "a"])
     _, batch_out = _run(["batch", junk, "-l", LAYOUTS, "--store", tmp_path / "c.sqlite",
                          "-o", tmp_path / "b"])
-    first = [ln for ln in audit_out.splitlines() if ln.startswith("FAILED")]
-    assert first and first == [ln for ln in batch_out.splitlines() if ln.startswith("FAILED")]
+    first = [ln for ln in audit_out.splitlines() if ln.startswith("NOT AUDITED")]
+    assert first and first == [ln for ln in batch_out.splitlines() if ln.startswith("NOT AUDITED")]
 
 
 def test_audit_keeps_the_reports_of_equal_file_names_in_different_folders(tmp_path: Path

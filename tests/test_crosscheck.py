@@ -7,7 +7,7 @@ from pathlib import Path
 import pytest
 from casekit import make_certificate
 
-from checks.profile import DEFAULT_PROFILE
+from checks.profile import DEFAULT_PROFILE, CheckSettings, Profile
 from checks.runner import CheckResults
 from corpus import Corpus
 from corpus.crosscheck import (
@@ -16,7 +16,6 @@ from corpus.crosscheck import (
     INSTRUMENT_WORKLOAD,
     NUMBER_REUSED,
     REPEATED,
-    CrossCheckOptions,
     party_stats,
     scan,
     workload,
@@ -159,10 +158,16 @@ def test_repeat_of_previous_certificate_for_same_address(tmp_path: Path) -> None
         corpus.add(_cert("B1", "9 Vetch Lane, Lowmoor", "10/05/2019", OTHER), EMPTY)
         corpus.add(_cert("B2", "9 Vetch Lane, Lowmoor", "01/07/2024", FRESH), EMPTY)
         report = scan(corpus)
-    rep = [cf for cf in report.findings if cf.finding.check_id == REPEATED]
-    assert [(cf.finding.certificate, cf.finding.related) for cf in rep] == [("A2", ("A1",))]
-    assert rep[0].match.cert_a == later and rep[0].match.cert_b == first
-    assert rep[0].match.exact and rep[0].match.compared == 18
+    rep = sorted((cf for cf in report.findings if cf.finding.check_id == REPEATED),
+                 key=lambda cf: cf.finding.certificate)
+    # on both certificates, each naming the other; the 2019 one is the likely source
+    assert [(cf.finding.certificate, cf.finding.related) for cf in rep] == [
+        ("A1", ("A2",)), ("A2", ("A1",))]
+    assert rep[1].match.cert_a == later and rep[1].match.cert_b == first
+    assert rep[1].match.exact and rep[1].match.compared == 18
+    source = "the earlier (2019-05-10): the likely source"
+    assert f"this certificate is {source}" in rep[0].finding.message
+    assert f"certificate A1 is {source}" in rep[1].finding.message
     assert not any(cf.finding.check_id == COPIED for cf in report.findings)
 
 
@@ -198,7 +203,8 @@ def test_workload_limit_follows_the_options(tmp_path: Path) -> None:
                              serial=f"ZX-{i}"), EMPTY)
         corpus.add(_cert("W99", "99 Saltings Way, Lowmoor", "15/03/2024", READINGS), EMPTY)
         default = workload(corpus)  # 10 min a circuit, 10 h a day: at most 60
-        relaxed = workload(corpus, CrossCheckOptions(minutes_per_circuit=5))
+        relaxed = workload(corpus, Profile(checks={
+            INSPECTOR_WORKLOAD: CheckSettings(options={"minutes_per_circuit": 5.0})}))
     flagged = [cf.finding for cf in default]
     assert {f.check_id for f in flagged} == {INSPECTOR_WORKLOAD}
     assert sorted(f.certificate for f in flagged) == sorted(f"W{i}" for i in range(11))

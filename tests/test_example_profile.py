@@ -35,7 +35,7 @@ def test_example_profile_retunes_and_disables() -> None:
     assert "ring-rn-matches-r1" not in default_ids
     assert "ring-rn-matches-r1" in {f.check_id for f in tuned.findings}
     runs = {r.check_id: r for r in tuned.runs}
-    assert runs["ir-worth-investigating"].outcome is Outcome.DISABLED
+    assert runs["ir-worth-investigating"].outcome is Outcome.TURNED_OFF
     assert runs["ring-rn-matches-r1"].options["tolerance_ohm"] == 0.03
 
 

@@ -43,7 +43,7 @@ def test_disable_a_check(tmp_path: Path) -> None:
     results = _run("[checks.rcd-button-not-confirmed]\nenabled = false\n", tmp_path)
     assert _of(results, "rcd-button-not-confirmed") == []
     run = next(r for r in results.runs if r.check_id == "rcd-button-not-confirmed")
-    assert run.outcome is Outcome.DISABLED
+    assert run.outcome is Outcome.TURNED_OFF
 
 
 def test_retune_an_option(tmp_path: Path) -> None:

@@ -1,8 +1,9 @@
 """Each certificate's own report shows what the comparison across certificates found.
 
 A batch over the demo folder (grid-copied-07 carries grid-clean-01's readings at another
-address) re-writes both certificates' HTML and JSON reports with a section "Compared with other
-certificates", a sentence in the verdict box and a link to the other certificate's report.
+address) re-writes both certificates' HTML, JSON and findings CSV reports with a section
+"Compared with other certificates", the verdict "readings copied" naming the other certificate
+and the likely source, and a link to the other certificate's report.
 grid-clean-01 is audited in a first run on its own and is *skipped* in the second run: its
 reports are re-written all the same, from the store.
 """
@@ -61,7 +62,8 @@ def test_alone_no_section_then_skipped_certificate_gains_it(runs) -> None:
     status = {o.path.stem: o.status for o in second.outcomes}
     assert status[CLEAN] is Status.SKIPPED and status[COPIED] is Status.AUDITED
     expected = [_html(out, s).name for s in (CLEAN, COPIED)] + [
-        _html(out, s).with_suffix(".json").name for s in (CLEAN, COPIED)]
+        _html(out, s).with_suffix(".json").name for s in (CLEAN, COPIED)] + [
+        _html(out, s).stem + ".findings.csv" for s in (CLEAN, COPIED)]
     assert sorted(p.name for p in second.related_reports) == sorted(expected)
 
 
@@ -86,10 +88,14 @@ def test_both_reports_show_the_other_certificate_with_a_working_link(runs) -> No
         cells = section.one("table", **{"class": "pairs"}).find_all("td")
         shaded = [c for c in cells if "rel-equal" in c.classes()]
         assert len(shaded) >= 40 and not [c for c in cells if "rel-different" in c.classes()]
-        # the verdict box says so, and the verdict itself is unchanged (cross findings are queries)
-        note = dom.one("p", id="related-note")
-        assert "match" in note.text() and number[there] in note.text()
-        assert dom.one("div", **{"class": "headline"}).attrs["data-verdict"] == "no_concerns"
+        # the verdict says so on both, naming the other and the earlier one as the source
+        assert dom.one("div", **{"class": "headline"}).attrs["data-verdict"] == "readings_copied"
+        (copy_line,) = dom.one("ul", id="copies").find_all("li")
+        assert number[there] in copy_line.text() and "likely source" in copy_line.text()
+        source = ("this certificate is the earlier" if here == CLEAN
+                  else f"certificate {number[CLEAN]} is the earlier")
+        assert source in copy_line.text()
+        assert "counted in the outcome" in dom.one("p", id="related-note").text()
 
 
 def test_json_has_the_related_entries_and_reads_back(runs) -> None:
@@ -97,7 +103,7 @@ def test_json_has_the_related_entries_and_reads_back(runs) -> None:
     for here, there in ((CLEAN, COPIED), (COPIED, CLEAN)):
         doc = json.loads(_html(out, here).with_suffix(".json").read_text())
         other_doc = json.loads(_html(out, there).with_suffix(".json").read_text())
-        assert doc["format_version"] == 2
+        assert doc["format_version"] == 4
         (rel,) = doc["related"]
         assert rel["finding"]["check_id"] == COPIED_CHECK
         assert rel["finding"]["related"] == [_number(other_doc)]
@@ -111,7 +117,7 @@ def test_json_has_the_related_entries_and_reads_back(runs) -> None:
         assert certificate_from_json(doc).sha256 == doc["certificate"]["sha256"]
     # re-written from the store, the rest of the report is what the worker wrote
     again = json.loads(_html(out, CLEAN).with_suffix(".json").read_text())
-    strip = ("related", "generated_at")
+    strip = ("related", "generated_at", "verdict", "counts")
     assert {k: v for k, v in again.items() if k not in strip} == {
         k: v for k, v in alone["json"].items() if k not in strip}
 
@@ -153,7 +159,7 @@ def test_hostile_text_of_the_other_certificate_is_escaped() -> None:
     rels = [c.attrs["class"] for c in section.one("table", **{"class": "pairs"}).find_all("td")
             if c.attrs.get("class", "").startswith("rel-")]
     assert sorted(rels) == ["rel-different", "rel-equal", "rel-near"]
-    assert SCRIPT in dom.one("p", id="related-note").text()
+    assert SCRIPT in dom.one("ul", id="copies").text()  # the verdict names it, escaped
     doc = report_dict(certificate(), results(), certvet_version="t", generated_at="x",
                       related=[rel])
     assert json.loads(json.dumps(doc))["related"] == [rel.to_dict()]

@@ -5,6 +5,7 @@ from __future__ import annotations
 import csv
 import json
 import math
+import re
 from dataclasses import dataclass, field, replace
 from html.parser import HTMLParser
 from pathlib import Path
@@ -12,7 +13,7 @@ from pathlib import Path
 import pytest
 from casekit import make_certificate
 
-from checks.model import FINDING_COLUMNS, Finding, Severity
+from checks.model import FINDING_COLUMNS, Finding, Outcome, Severity
 from checks.profile import CheckSettings, Profile
 from checks.runner import CheckResults, run_checks
 from extractor.frame import circuits_frame, frame_columns
@@ -20,6 +21,7 @@ from extractor.records import Box, Cell, Certificate, ExtractionProblem
 from reports.csvout import neutralise, write_csv
 from reports.html import render_html, write_html
 from reports.jsonout import FORMAT_VERSION, certificate_from_json, report_dict, write_json
+from reports.model import CAUTIONS
 from reports.verdict import WORDING, VerdictKey, decide
 
 SCRIPT = "<script>alert(1)</script>"
@@ -220,7 +222,7 @@ def test_real_check_results_are_highlighted() -> None:
     assert f"sev-{ring[0].severity.slug}" in cell.classes()
     assert "expected 0.52 Ω (± 0.05 Ω)" in cell.text()
     run_row = dom.one("tr", data_run="ring-rn-matches-r1")
-    assert "failed" in run_row.text() and "tolerance_ohm = 0.05" in run_row.text()
+    assert "found 1" in run_row.text() and "tolerance_ohm = 0.05" in run_row.text()
 
 
 def test_findings_grouped_worst_first_with_reference_and_page() -> None:
@@ -268,13 +270,16 @@ def test_checks_run_section_lists_outcomes_and_profile_options() -> None:
     section = " ".join(dom.text().split())
     assert "Rule profile scheme-x (our scheme)" in section
     row = dom.one("tr", data_run="ring-rn-matches-r1")
-    assert "tolerance_ohm = 0.1" in row.text() and "passed" in row.text()
+    assert "tolerance_ohm = 0.1" in row.text() and "raised nothing" in row.text()
     assert "(set by profile)" in row.text()
     rows = [r for r in dom.find_all("tr") if "data-outcome" in r.attrs]
     assert len(rows) == len(res.runs)
-    labels = {"passed", "failed", "not applicable", "disabled"}
-    for r in rows:
-        assert r.one("td", **{"class": f"outcome o-{r.attrs['data-outcome']}"}).text() in labels
+    labels = {o.value: o for o in Outcome}
+    for r, run in zip(rows, res.runs, strict=True):
+        shown = r.one("td", **{"class": f"outcome o-{r.attrs['data-outcome']}"}).text()
+        assert shown == labels[r.attrs["data-outcome"]].describe(run.findings)
+        assert shown in ("raised nothing", "did not apply", "turned off") or re.fullmatch(
+            r"found \d+", shown)
 
 
 def test_empty_certificate_renders_as_incomplete(tmp_path: Path) -> None:
@@ -300,7 +305,11 @@ def test_json_round_trips(tmp_path: Path) -> None:
     path = write_json(cert, res, tmp_path / "r.json", certvet_version="9.9.9",
                       generated_at="fixed")
     data = json.loads(path.read_text(encoding="utf-8"))
-    assert data["format_version"] == FORMAT_VERSION == 2
+    assert data["format_version"] == FORMAT_VERSION == 4
+    assert data["cautions"] == list(CAUTIONS)
+    for r in data["check_runs"]:
+        assert r["outcome_label"] == Outcome(r["outcome"]).describe(r["findings"])
+    assert {r["outcome_label"] for r in data["check_runs"]} >= {"raised nothing", "found 3"}
     assert data["related"] == []  # filled in by batch runs only
     assert list(data)[0] == "format_version"
     assert data == report_dict(cert, res, certvet_version="9.9.9", generated_at="fixed")
@@ -316,7 +325,7 @@ def test_json_round_trips(tmp_path: Path) -> None:
 
 def test_json_rejects_unknown_format_version() -> None:
     data = report_dict(certificate(), results(), certvet_version="1", generated_at="x")
-    data["format_version"] = 3
+    data["format_version"] = FORMAT_VERSION + 1
     with pytest.raises(ValueError, match="format_version"):
         certificate_from_json(data)
 

@@ -253,7 +253,7 @@ class RingR1R2QuarterRule(_QuarterRule):
 
     What it checks:
     On a ring with r1, r2 and R1+R2 recorded, that R1+R2 is not below (r1 + r2)/4 by more
-    than a small tolerance (impossible or unsafe) and not above it by more than a spur
+    than a small tolerance (impossible as recorded) and not above it by more than a spur
     allowance (query).
 
     Why it matters:
@@ -310,7 +310,7 @@ class RingR1RnQuarterRule(_QuarterRule):
 
     What it checks:
     On a ring with r1, rn and R1+Rn recorded, that R1+Rn is not below (r1 + rn)/4 by more
-    than a small tolerance (impossible or unsafe) and not above it by more than a spur
+    than a small tolerance (impossible as recorded) and not above it by more than a spur
     allowance (query).
 
     Why it matters:
