@@ -338,9 +338,10 @@ def run_batch(
             emit(_store_outcome(corpus, oc, sha_of[oc.path], fail_on))
 
         _compare_across(corpus, report, prof, reports_dir, fail_on)
+        keys = corpus.certificate_keys()
     if out is not None:
         try:
-            write_cross_findings(report.cross_findings, out)
+            write_cross_findings(report.cross_findings, out, keys)
         except OSError as exc:
             report.output_errors.append(f"{out}: cannot write cross-findings: {_why(exc)}")
         if portfolio:
@@ -636,18 +637,31 @@ def _unrecorded(profile: Profile) -> Profile:
     return replace(profile, description=text)
 
 
-def write_cross_findings(found: Sequence[CrossFinding], out_dir: Path) -> tuple[Path, Path]:
+def write_cross_findings(found: Sequence[CrossFinding], out_dir: Path,
+                         keys: dict[int, tuple[str, str | None]] | None = None
+                         ) -> tuple[Path, Path]:
+    """`cross-findings.json` (format_version 2: each finding with `cert_sha256`, `cert_number`
+    and `related_sha256`, the certificates' stable keys) and `cross-findings.csv` (the same
+    columns). `keys` maps store ids to (content hash, number). Each file replaces the old one
+    only once written in full (a full disk leaves the old file, never an empty one)."""
     from checks.model import FINDING_COLUMNS
     from reports.csvout import write_table
+    from reports.files import replaced_atomically
 
-    out_dir.mkdir(parents=True, exist_ok=True)
-    rows = [cf.finding.to_dict() for cf in found]
+    keys = keys or {}
+    rows = []
+    for cf in found:
+        sha, number = keys.get(cf.cert_id or -1, ("", None))
+        rows.append({"cert_sha256": sha, "cert_number": number, **cf.finding.to_dict(),
+                     "related_sha256": [keys[o][0] for o in cf.others if o in keys]})
     js = out_dir / "cross-findings.json"
-    js.write_text(json.dumps({"format_version": 1, "findings": rows}, indent=1),
-                  encoding="utf-8")
-    cols = [c for c in FINDING_COLUMNS if c != "box"] + ["related"]
+    with replaced_atomically(js) as fh:
+        json.dump({"format_version": 2, "findings": rows}, fh, indent=1)
+    cols = (["cert_sha256", "cert_number"] + [c for c in FINDING_COLUMNS if c != "box"]
+            + ["related", "related_sha256"])
     cs = write_table(out_dir / "cross-findings.csv", cols,
-                     (["; ".join(r[c]) if c == "related" else r[c] for c in cols] for r in rows))
+                     (["; ".join(r[c]) if c in ("related", "related_sha256") else r[c]
+                       for c in cols] for r in rows))
     return js, cs
 
 

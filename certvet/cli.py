@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import os
 import sys
-from enum import StrEnum
 from pathlib import Path
 from typing import TYPE_CHECKING, Annotated, Any, Optional
 
@@ -26,6 +25,7 @@ from certvet.exitcodes import (
     EXIT_USAGE,
     parse_fail_on,
 )
+from extractor.engines.names import EngineName
 
 
 def _readable_metavars() -> None:
@@ -101,10 +101,9 @@ def _main_options(
 ) -> None:
     """Options before any command (the help text is the app's, above)."""
 
-class EngineChoice(StrEnum):
-    pdfium = "pdfium"
-    pdfplumber = "pdfplumber"
-    lattice = "lattice"
+
+
+EngineChoice = EngineName  # the names defined once, in extractor/engines/names.py
 
 
 def _load_inputs(

@@ -13,7 +13,6 @@ PDF text is printed as text, never as markup (certvet/console.py).
 from __future__ import annotations
 
 import sys
-from enum import StrEnum
 from pathlib import Path
 from typing import TYPE_CHECKING, Annotated
 
@@ -22,6 +21,7 @@ import typer
 from certvet.console import err as _err
 from certvet.console import plain_console
 from certvet.exitcodes import EXIT_FAILED, EXIT_USAGE
+from extractor.engines.names import EngineName
 
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from extractor.layout import Layout
@@ -34,10 +34,6 @@ app = typer.Typer(
 )
 
 
-class EngineName(StrEnum):
-    pdfium = "pdfium"
-    pdfplumber = "pdfplumber"
-    lattice = "lattice"
 
 
 Engine = Annotated[

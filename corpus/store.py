@@ -572,6 +572,11 @@ class Corpus:
             c.executemany("UPDATE certificates SET verdict = ? WHERE id = ?",
                           [(v, cid) for cid, v in verdicts.items()])
 
+    def certificate_keys(self) -> dict[int, tuple[str, str | None]]:
+        """Each stored certificate's stable key by its id: (content hash, number as printed)."""
+        return {cid: (sha, number) for cid, sha, number in self.rows(
+            "SELECT id, sha256, cert_number FROM certificates")}
+
     def tested_per_day(self) -> list[tuple[str | None, str, int]]:
         """(inspector as printed, inspection date, tested circuits) per inspector and day,
         busiest first."""

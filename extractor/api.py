@@ -11,6 +11,7 @@ from collections.abc import Iterator, Sequence
 from typing import TYPE_CHECKING
 
 from extractor.assemble import assemble, group_lines
+from extractor.engines.names import DEFAULT_ENGINE, ENGINE_NAMES
 from extractor.errors import InputError, NoLayoutMatches
 
 if TYPE_CHECKING:
@@ -18,8 +19,6 @@ if TYPE_CHECKING:
     from extractor.layout import Layout
     from extractor.records import Certificate
 
-ENGINE_NAMES = ("pdfium", "pdfplumber", "lattice")
-DEFAULT_ENGINE = "pdfium"
 UNREADABLE_SHARE = 0.5  # refuse a document when more than this share of its chars is unreadable
 
 

@@ -20,6 +20,7 @@ from extractor.frame import circuit_rows, frame_columns
 from extractor.records import Box, Certificate
 from extractor.untrusted import spreadsheet_cell
 from extractor.untrusted import spreadsheet_safe as neutralise
+from reports.files import replaced_atomically
 
 __all__ = ["neutralise", "write_csv", "write_findings_csv", "write_records_csv", "write_table"]
 
@@ -27,8 +28,7 @@ __all__ = ["neutralise", "write_csv", "write_findings_csv", "write_records_csv",
 def write_table(path: str | Path, columns: Sequence[str], rows: Iterable[Sequence[Any]]) -> Path:
     """A CSV file: a header row, then each row with every cell made spreadsheet-safe."""
     out = Path(path)
-    out.parent.mkdir(parents=True, exist_ok=True)
-    with out.open("w", newline="", encoding="utf-8") as fh:
+    with replaced_atomically(out, newline="") as fh:  # never a truncated file (disk full)
         w = csv.writer(fh)
         w.writerow(columns)
         for row in rows:

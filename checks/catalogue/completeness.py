@@ -10,6 +10,7 @@ from checks.base import CertificateCheck, CircuitCheck, option
 from checks.catalogue.rcd import has_rcd
 from checks.model import Finding, Severity
 from checks.registry import register
+from checks.tables import EARTHING_CHOICES
 from extractor.fields import CERTIFICATE, FIELDS
 from extractor.records import Board, Certificate, Circuit, Value, ValueKind
 from extractor.tokens import ticked_choice
@@ -431,3 +432,83 @@ class OutcomeContradictsObservations(CertificateCheck):
                 expected="Unsatisfactory",
             )
         ]
+
+
+_OUTCOMES = ("Satisfactory", "Unsatisfactory")
+_BOX_GLYPHS = frozenset("☐□☑☒")
+
+
+def _unclear_choice(text: str, choices: tuple[str, ...]) -> str | None:
+    """Why a printed tick-box line cannot be read, or None when it can (or is no such line)."""
+    named = {c.lower() for c in choices if re.search(
+        r"(?<![\w-])" + re.escape(c) + r"(?![\w-])", text, re.IGNORECASE)}
+    if len(named) < 2 and not any(ch in text for ch in _BOX_GLYPHS):
+        return None
+    choice, reason = ticked_choice(text, choices)
+    return None if choice is not None else reason
+
+
+@register
+class TickBoxChoiceUnclear(CertificateCheck):
+    """A tick-box line that prints every option, where which one is ticked cannot be told.
+
+    What it checks:
+    The earthing system (certificate and each board) and the overall assessment, when the
+    form prints every option with a box or mark beside each ("TN-S ☐ TN-C-S ☑ TT ☐",
+    "Satisfactory ☐ Unsatisfactory ☒"): exactly one option must be marked. None marked,
+    or several, is queried; the checks that need the earthing system or the outcome then
+    do not apply, rather than guess.
+
+    Why it matters:
+    The earthing system decides which limits apply (Ze, disconnection times, RCD fault
+    protection on TT); the overall assessment is the certificate's verdict. Read wrongly,
+    every check downstream is judged against the wrong rule.
+
+    Known false alarms:
+    A mark the PDF draws as a picture rather than a character is not seen.
+
+    Failing example:
+    Earthing "TN-S ✔ TN-C-S ✔ TT" (two marked); overall assessment "Satisfactory
+    Unsatisfactory" with neither marked.
+
+    Passing example:
+    Earthing "TN-S ☐ TN-C-S ☑ TT ☐"; earthing "TN-C-S" written plainly.
+
+    Options:
+    none.
+
+    Reference:
+    BS 7671:2018+A2:2022 Appendix 6 model forms (earthing arrangements and overall
+    assessment are chosen by ticking one box), from memory; common practice, no source.
+    """
+
+    id = "tick-box-choice-unclear"
+    title = "Tick-box choice (earthing, outcome) cannot be read"
+    severity = Severity.QUERY
+    reference = "BS 7671:2018+A2:2022 Appendix 6 model forms (from memory)"
+    basis = "from memory"
+    group = "completeness"
+
+    def check_certificate(self, cert: Certificate) -> Iterable[Finding] | None:
+        holders: list[tuple[Board | None, str, tuple[str, ...]]] = [
+            (None, "earthing", EARTHING_CHOICES), (None, "overall_outcome", _OUTCOMES)]
+        holders += [(b, "earthing", EARTHING_CHOICES) for b in cert.boards]
+        found: list[Finding] = []
+        applied = False
+        for board, name, choices in holders:
+            text = board.text(name) if board is not None else cert.text(name)
+            if not text:
+                continue
+            applied = True
+            why = _unclear_choice(text, choices)
+            if why is None:
+                continue
+            found.append(self.make(
+                cert,
+                f"{CERTIFICATE[name].label} is printed as a tick-box line ({text!r}) and which "
+                f"option is ticked cannot be told: {why}.",
+                board=board,
+                field=name,
+                expected="one option ticked",
+            ))
+        return found if applied else None

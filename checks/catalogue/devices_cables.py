@@ -9,7 +9,8 @@ from dataclasses import dataclass
 
 from checks import tables
 from checks.base import CircuitCheck, fmt, option
-from checks.devices import Device, is_ring, parse_device, ring_or_radial_unknown
+from checks.catalogue.loop import earthing_of
+from checks.devices import Device, is_ring, parse_device, rcd_protection, ring_or_radial_unknown
 from checks.model import Finding, Severity
 from checks.registry import register
 from extractor.records import Board, Certificate, Circuit
@@ -208,33 +209,39 @@ def fuse_i2t(device: Device, current_a: float) -> tuple[float, float, str] | Non
         f"fuse time {t:.2f} s read between its 0.4 s and 5 s points (derived)")
 
 
-def adiabatic(circuit: Circuit, device: Device, u0_v: float, breaker_time_s: float
-              ) -> Adiabatic | None:
+def adiabatic(circuit: Circuit, device: Device, u0_v: float, breaker_time_s: float,
+              board: Board | None = None, rcd_time_s: float = 0.3,
+              tt: bool = False) -> Adiabatic | None:
     """The adiabatic minimum cpc size for a circuit, or None when it cannot be worked out.
 
     I = U0/Zs (measured Zs). Circuit-breakers: t = breaker_time_s, valid only when I is at
-    or above the instantaneous tripping current (5/10/20 × In for B/C/D); below that the
-    device is not in its instantaneous region and None is returned. Fuses: I²t from the
-    fuse's characteristic at the worst case (fuse_i2t).
+    or above the instantaneous tripping current (5/10/20 × In for B/C/D). Fuses: I²t from
+    the fuse's characteristic at the worst case (fuse_i2t). Below those, on a TT
+    installation (tt), an RCD protecting the circuit (checks.devices.rcd_protection) clears
+    an earth fault current of at least its IΔn within rcd_time_s (a fault of a few
+    amperes); otherwise None.
     """
     zs = circuit.number("zs")
     if zs is None or zs <= 0 or device.rating is None:
         return None
     current = u0_v / zs
     k = tables.cpc_k("thermoplastic_70c").num("k")
+    got: tuple[float, float, str] | None = None
     if device.is_breaker and device.curve in _INSTANT_MULTIPLE:
-        if current < _INSTANT_MULTIPLE[device.curve] * device.rating - 1e-9:
-            return None
-        t = breaker_time_s
-        assumption = f"circuit-breaker in its instantaneous region, t assumed {t:g} s"
-        i2t = current**2 * t
+        if current >= _INSTANT_MULTIPLE[device.curve] * device.rating - 1e-9:
+            t = breaker_time_s
+            got = (current**2 * t, t,
+                   f"circuit-breaker in its instantaneous region, t assumed {t:g} s")
     elif device.is_fuse:
         got = fuse_i2t(device, current)
-        if got is None:
+    if got is None:
+        rcd = rcd_protection(circuit, board)
+        idn_a = (rcd.idn_ma if rcd is not None and rcd.idn_ma is not None else 30.0) / 1000
+        if not tt or rcd is None or current < idn_a:
             return None
-        i2t, t, assumption = got
-    else:
-        return None
+        got = (current**2 * rcd_time_s, rcd_time_s,
+               f"the RCD disconnects within {rcd_time_s:g} s (BS EN 61008-1/61009-1 at IΔn)")
+    i2t, t, assumption = got
     return Adiabatic(current, t, k, math.sqrt(i2t) / k, assumption)
 
 
@@ -250,8 +257,9 @@ class CpcAdiabatic(CircuitCheck):
     for a fuse, the I²t at the worst case along its characteristic: for a fault current at
     or above the fuse's 0.4 s current Ia (derived from the tabulated maximum Zs, Ia = 0.95 ×
     230 / Zs max) that is Ia² × 0.4 s, since a fuse's I²t does not rise with current; below
-    it, the time read between the 0.4 s and 5 s points. The recorded cpc smaller than S is
-    queried.
+    it, the time read between the 0.4 s and 5 s points. Where the overcurrent device is
+    slow (on TT: a fault of a few amperes) and an RCD protects the circuit, t is the RCD's
+    300 ms. The recorded cpc smaller than S is queried.
 
     Why it matters:
     The cpc must carry the earth fault current until the device clears it without its
@@ -280,6 +288,7 @@ class CpcAdiabatic(CircuitCheck):
     u0_v: nominal voltage to earth used for the fault current (V).
     breaker_time_s: disconnection time assumed for a circuit-breaker in its instantaneous
     region (s).
+    rcd_time_s: time for an RCD to clear a fault current the overcurrent device is slow on.
 
     Reference:
     BS 7671:2018+A2:2022 Reg 543.1.3 (adiabatic equation) and Table 54.3 (k = 115); the
@@ -308,6 +317,10 @@ class CpcAdiabatic(CircuitCheck):
             "typically clears (our assumption; 0.1 s is the BS EN 60898-1 upper limit)",
             "time assumed for a circuit-breaker in its instantaneous region (s)",
             above=0.0)
+        rcd_time_s: float = option(
+            0.3, "BS EN 61008-1 / 61009-1: a general RCD trips within 300 ms at IΔn",
+            "time for an RCD to clear a fault below the overcurrent device's fast region (s)",
+            above=0.0)
 
     def check_circuit(
         self, cert: Certificate, board: Board, circuit: Circuit
@@ -316,7 +329,8 @@ class CpcAdiabatic(CircuitCheck):
         if cpc is None:
             return None
         o = self.options
-        result = adiabatic(circuit, parse_device(circuit), o.u0_v, o.breaker_time_s)
+        result = adiabatic(circuit, parse_device(circuit), o.u0_v, o.breaker_time_s, board,
+                           o.rcd_time_s, earthing_of(cert, board) == "TT")
         if result is None:
             return None
         if cpc >= result.min_cpc_mm2 - 1e-9:
@@ -385,15 +399,15 @@ class CpcBelowTable547(CircuitCheck):
         if cpc >= minimum - 1e-9:
             return []
         defaults = CpcAdiabatic.Options()
-        if adiabatic(circuit, parse_device(circuit), defaults.u0_v,
-                     defaults.breaker_time_s) is not None:
+        if adiabatic(circuit, parse_device(circuit), defaults.u0_v, defaults.breaker_time_s,
+                     board, defaults.rcd_time_s, earthing_of(cert, board) == "TT") is not None:
             return []  # the adiabatic sum can be made: cpc-adiabatic decides
         return [
             self.make(
                 cert,
                 f"cpc {cpc:g} mm² is below Table 54.7 ({minimum:g} mm² for {live:g} mm² line) "
-                "and the schedule gives no Zs and device to show it is adequate by "
-                "calculation.",
+                "and the schedule does not show it adequate by calculation (no Zs, an unknown "
+                "device, or a fault current no device clears quickly).",
                 board=board,
                 circuit=circuit,
                 field="cpc_csa",
