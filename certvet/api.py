@@ -18,11 +18,12 @@ from typing import TYPE_CHECKING
 from certvet import __version__
 from checks.profile import DEFAULT_PROFILE, Profile, load_profile
 from checks.runner import CheckResults, run_checks
-from extractor.errors import InputError, NoLayoutMatches
+from extractor.errors import InputError, NoLayoutMatches, NotRecognised
 from extractor.layout import Layout, LayoutError, load_layout, load_layouts
 from extractor.records import Certificate
 
 if TYPE_CHECKING:  # reports.verdict is imported lazily, in AuditResult.verdict
+    from certvet.drafting import DraftedForms, DraftOptions
     from certvet.workers import Limits
     from reports.verdict import Verdict
 
@@ -32,6 +33,7 @@ __all__ = [
     "InputError",
     "LayoutError",
     "NoLayoutMatches",
+    "NotRecognised",
     "ReportWriteError",
     "audit_file",
     "audit_many",
@@ -101,13 +103,20 @@ def audit_file(
     password: str | None = None,
     formats: Iterable[str] = ("html", "json", "csv"),
     stem: str | None = None,
+    drafting: DraftOptions | None = None,
+    drafts: DraftedForms | None = None,
 ) -> AuditResult:
     """Extract, check and (when out_dir is given) write the reports for one PDF, named
     `<stem>.*` (default: the PDF's name).
 
+    When no layout recognises the file, a layout is drafted from it (certvet/drafting.py;
+    `drafting=DraftOptions(enabled=False)` turns that off). `drafts` carries the layouts drafted
+    earlier in a run, so files of one unknown form share one; by default a drafted layout is
+    saved under `<out_dir>/drafted-layouts/`.
+
     Raises InputError (one-line message naming the file) for input that cannot be audited.
     """
-    from extractor.api import extract, extract_recognised
+    from extractor.api import extract
 
     path = Path(pdf)
     if not path.exists():
@@ -117,19 +126,60 @@ def audit_file(
     if layout is not None:
         chosen, cert = layout, extract(str(path), layout, engine=engine, password=password)
     else:
-        if not layouts:
-            raise NoLayoutMatches(str(path), "no layout given (use --layout)")
-        found, got = extract_recognised(str(path), layouts, engine=engine, password=password)
-        if found is None or got is None:
-            names = ", ".join(lay.name for lay in layouts)
-            raise NoLayoutMatches(str(path), f"no layout recognises this form (tried: {names})")
-        chosen, cert = found, got
+        if drafts is None:
+            drafts = new_drafts(drafting, out_dir, layouts)
+        chosen, cert = _recognise_or_draft(str(path), layouts, drafts, engine, password)
     results = run_checks(cert, profile or DEFAULT_PROFILE)
     result = AuditResult(path, cert, results, chosen.name)
     if out_dir is not None:
         result.outputs = write_reports(result, out_dir, formats, profile or DEFAULT_PROFILE,
                                        stem=stem)
     return result
+
+
+def new_drafts(drafting: DraftOptions | None, out_dir: Path | None,
+               layouts: Sequence[Layout] = ()) -> DraftedForms:
+    """The drafted layouts of one run (none yet): saved in `<out_dir>/drafted-layouts` unless
+    the options name another folder; named apart from the given `layouts`."""
+    from dataclasses import replace
+
+    from certvet.drafting import DRAFTS_SUBDIR, DraftedForms, DraftOptions
+
+    opts = drafting or DraftOptions()
+    if opts.folder is None and out_dir is not None:
+        opts = replace(opts, folder=out_dir / DRAFTS_SUBDIR)
+    return DraftedForms(opts, reserved={lay.name for lay in layouts})
+
+
+def _recognise_or_draft(
+    path: str, layouts: Sequence[Layout], drafts: DraftedForms, engine: str | None,
+    password: str | None,
+) -> tuple[Layout, Certificate]:
+    """The given layout that recognises the file; else one drafted earlier in the run; else
+    (when drafting is on) one drafted from the file now. NotRecognised when none."""
+    from extractor.api import extract_recognised
+    from extractor.draft_reading import draft_command
+
+    if layouts:
+        found, got = extract_recognised(path, layouts, engine=engine, password=password)
+        if found is not None and got is not None:
+            return found, got
+    try:
+        shared = drafts.read_with_shared(path, engine=engine, password=password)
+    except InputError:
+        if not drafts.options.enabled:
+            raise
+        shared = None  # a layout drafted from another file recognised it but cannot read it
+    if shared is not None:
+        return shared
+    if drafts.options.enabled:
+        return drafts.draft(path, engine=engine, password=password)
+    fix = f"`{draft_command(path)}` drafts one to check and edit"
+    if not layouts:
+        raise NotRecognised(path, f"no layout given (use --layout) and drafting a layout for "
+                                  f"unknown forms is off; {fix}")
+    names = ", ".join(lay.name for lay in layouts)
+    raise NotRecognised(path, f"no layout recognises this form (tried: {names}); {fix}")
 
 
 def write_reports(
@@ -192,13 +242,18 @@ def audit_many(
     engine: str | None = None,
     password: str | None = None,
     on_done: Callable[[Path, AuditResult | None, str | None], None] | None = None,
+    drafting: DraftOptions | None = None,
     limits: Limits | None = None,
 ) -> BatchSummary:
     """Audit each file in turn; a bad file is recorded as failed with its reason, never fatal.
+    Files of one unknown form share the layout drafted from the first of them.
 
     With `limits`, each file is audited in its own child process with that time and memory
-    limit (certvet.workers, as `certvet batch` does), still one at a time and in order."""
+    limit (certvet.workers, as `certvet batch` does), still one at a time and in order; a
+    layout a child drafts is not passed back, so each file of an unknown form is drafted on
+    its own."""
     summary = BatchSummary()
+    drafts = new_drafts(drafting, out_dir, layouts)
     used: set[str] = set()  # equal file names in different folders: cert.*, cert-2.*…
     stems: list[tuple[Path, str]] = []
     for pdf in pdfs:
@@ -212,7 +267,8 @@ def audit_many(
 
     def one(pdf: Path, stem: str) -> AuditResult:
         return audit_file(pdf, layouts=layouts, layout=layout, profile=profile,
-                          out_dir=out_dir, engine=engine, password=password, stem=stem)
+                          out_dir=out_dir, engine=engine, password=password, stem=stem,
+                          drafts=drafts)
 
     def record(pdf: Path, res: AuditResult | None, reason: str | None) -> None:
         if res is None:

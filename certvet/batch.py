@@ -54,12 +54,13 @@ from enum import StrEnum
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from certvet.drafting import DraftedForms, DraftOptions, audit_unknown_forms
 from certvet.exitcodes import DEFAULT_FAIL_ON as DEFAULT_FAIL_ON_TEXT
 from certvet.exitcodes import EXIT_CLEAN, EXIT_FAILED, EXIT_FINDINGS, parse_fail_on
 from certvet.workers import Limits, Outcome, run_isolated
 from checks.model import Severity
 from checks.profile import DEFAULT_PROFILE, Profile
-from extractor.errors import InputError
+from extractor.errors import InputError, NotRecognised
 from extractor.layout import Layout
 from extractor.untrusted import one_line
 from reports.verdict import NOT_AUDITED
@@ -102,12 +103,15 @@ class FileOutcome:
     breach: bool = False  # a counted finding at a fail-on severity (now or stored earlier)
     previously_failed: bool = False  # skipped, and the stored outcome is a failure
     reports: dict[str, Path] = field(default_factory=dict)
+    drafted: str | None = None  # read with a layout drafted in this run: the note saying so
 
     def line(self) -> str:
-        """One line for the console (control characters in names and reasons escaped)."""
+        """One line for the console (control characters in names and reasons escaped); a
+        second for the note when read with a drafted layout."""
         if self.status is Status.AUDITED:
+            note = f"\n{'':<22} {one_line(self.drafted)}" if self.drafted else ""
             return one_line(f"{(self.verdict or '').upper():<22} {self.path}  ({self.findings} "
-                            f"findings, layout {self.layout})")
+                            f"findings, layout {self.layout})") + note
         if self.status is Status.SKIPPED:
             return one_line(f"{'SKIPPED':<22} {self.reason}")
         return one_line(f"{NOT_AUDITED.upper():<22} {self.reason}")
@@ -211,12 +215,14 @@ class AuditJob:
     reports_dir: Path | None = None
     engine: str | None = None
     password: str | None = None
+    drafts: DraftedForms | None = None  # layouts drafted in this run (workers: frozen copies)
 
     def __call__(self, path: Path) -> AuditResult:
         from certvet.api import audit_file
 
         result = audit_file(path, layouts=self.layouts, profile=self.profile, out_dir=None,
-                            engine=self.engine, password=self.password)
+                            engine=self.engine, password=self.password,
+                            drafts=self.drafts or DraftedForms(DraftOptions(enabled=False)))
         if self.reports_dir is not None:
             result.outputs = self.write_reports(result, self.reports_dir)
         return result
@@ -275,6 +281,7 @@ def run_batch(
     portfolio: bool = True,
     on_start: Callable[[int], None] | None = None,
     fail_on: frozenset[Severity] = DEFAULT_FAIL_ON,
+    drafting: DraftOptions | None = None,
 ) -> BatchReport:
     """Audit every input into the store; see the module docstring. Never raises for a bad
     file; raises CorpusError (one line) when the store itself cannot be used."""
@@ -324,17 +331,30 @@ def run_batch(
             sha_of[path] = sha
 
         reports_dir = out / REPORTS_SUBDIR if out else None
-        job = AuditJob(tuple(layouts), prof, reports_dir, engine, password)
-        outcomes: Iterator[Outcome]
-        if scheduler:
-            from certvet.distributed import run_on_cluster
+        from certvet.api import new_drafts
 
-            outcomes = run_on_cluster(todo, job, scheduler, limits=limits or Limits())
-        else:
-            if todo:
-                warm_up(layouts, engine)
-            outcomes = run_isolated(todo, job, workers=workers, limits=limits or Limits())
-        for oc in outcomes:
+        drafts = new_drafts(drafting, out, layouts)
+        job = AuditJob(tuple(layouts), prof, reports_dir, engine, password, drafts.frozen())
+
+        def run(paths: list[Path], job: Callable[[Path], Any]) -> Iterator[Outcome]:
+            if scheduler:
+                from certvet.distributed import run_on_cluster
+
+                return run_on_cluster(paths, job, scheduler, limits=limits or Limits())
+            return run_isolated(paths, job, workers=workers, limits=limits or Limits())
+
+        if todo and not scheduler:
+            warm_up(layouts, engine)
+        unknown: list[Path] = []  # no given layout recognises them: drafted for below
+        for oc in run(todo, job):
+            if drafts.options.enabled and isinstance(oc.exception, NotRecognised):
+                unknown.append(oc.path)
+                continue
+            emit(_store_outcome(corpus, oc, sha_of[oc.path], fail_on))
+        order = {p: k for k, p in enumerate(todo)}
+        unknown.sort(key=order.__getitem__)
+        for oc in audit_unknown_forms(unknown, drafts, lambda d: replace(job, drafts=d), run,
+                                      password=password):
             emit(_store_outcome(corpus, oc, sha_of[oc.path], fail_on))
 
         _compare_across(corpus, report, prof, reports_dir, fail_on)
@@ -454,6 +474,11 @@ def _warm_up_certificate() -> Any:
     return cert
 
 
+def _drafted_line(res: AuditResult) -> str | None:
+    note = res.certificate.drafted
+    return note.message(str(res.source)) if note is not None else None
+
+
 def _store_outcome(corpus: Corpus, oc: Outcome, sha: str,
                    fail_on: frozenset[Severity] = DEFAULT_FAIL_ON) -> FileOutcome:
     """Write one result to the store (one transaction) and say how the file ended.
@@ -479,7 +504,7 @@ def _store_outcome(corpus: Corpus, oc: Outcome, sha: str,
                            certificate=res.certificate.name, verdict=verdict.label,
                            findings=len(counted),
                            breach=any(f.severity in fail_on for f in counted),
-                           reports=dict(res.outputs))
+                           reports=dict(res.outputs), drafted=_drafted_line(res))
     reason = _one_line(oc.error or f"{oc.path}: no result")
     if not isinstance(oc.exception, ReportWriteError):
         corpus.add_failure(sha, str(oc.path), reason)

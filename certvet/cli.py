@@ -13,6 +13,7 @@ from typing import TYPE_CHECKING, Annotated, Any, Optional
 
 import typer
 
+from certvet import cli_drafting as draft_opts
 from certvet.console import err as _err
 from certvet.console import make_out_dir as _make_out_dir
 from certvet.console import one_line
@@ -64,6 +65,7 @@ _readable_metavars()
 
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from certvet.api import AuditResult
+    from certvet.drafting import DraftOptions
     from certvet.workers import Limits
     from checks.profile import Profile
     from extractor.layout import Layout
@@ -130,6 +132,7 @@ def _run_batch(
     password: str | None,
     quiet: bool,
     fail_on: frozenset[Any],
+    drafting: DraftOptions | None = None,
     verbose: bool = False,
     as_json: bool = False,
     limits: Limits | None = None,
@@ -155,6 +158,9 @@ def _run_batch(
                 f"{v.label.upper():<22} {one_line(str(path))}  ({n} findings, layout "
                 f"{result.layout})"
             )
+            if result.certificate.drafted is not None:
+                note = result.certificate.drafted.message(str(path))
+                lines.append(f"{'':<22} {one_line(note)}")
             if verbose:
                 lines.extend(_finding_lines(result))
         if not show_bar and not quiet:
@@ -179,6 +185,7 @@ def _run_batch(
                 engine=engine,
                 password=password,
                 on_done=step,
+                drafting=drafting,
                 limits=limits,
             )
         for ln in lines:
@@ -192,6 +199,7 @@ def _run_batch(
             engine=engine,
             password=password,
             on_done=done,
+            drafting=drafting,
             limits=limits,
         )
     breach = any(f.severity in fail_on and not f.preview
@@ -241,7 +249,8 @@ def audit(
             "-l",
             metavar="LAYOUT",
             help="Layout file or folder of layouts; repeatable. "
-            "Each file's form is recognised automatically among them.",
+            "Each file's form is recognised automatically among them; a file none recognises "
+            "is read with a layout drafted from it (see --no-draft-unknown-forms).",
         ),
     ] = [],  # noqa: B006
     out: Annotated[Path, typer.Option("--out", "-o", help="Folder for the reports.")] = Path(
@@ -278,15 +287,15 @@ def audit(
     memory_mb: Annotated[
         int, typer.Option("--memory-mb", min=0, help="Resident memory per file in MB (0 = none).")
     ] = 2048,
+    draft_unknown: draft_opts.DraftUnknown = True,
+    min_draft_confidence: draft_opts.MinConfidence = draft_opts.READ_AT,
+    trusted_draft_confidence: draft_opts.TrustedConfidence = draft_opts.TRUSTED_AT,
 ) -> None:
     """Audit certificates: extract the schedule, run every check, write HTML/JSON/CSV reports.
     Each file is audited in its own process with the time and memory limits of `batch`."""
     from certvet.api import expand_inputs
     from certvet.workers import Limits
 
-    if not layout:
-        _err("give at least one --layout (a layout file or a folder of them)")
-        raise typer.Exit(EXIT_USAGE)
     try:
         severities = parse_fail_on(fail_on)
     except ValueError as exc:
@@ -299,8 +308,11 @@ def audit(
         raise typer.Exit(EXIT_FAILED)
     _make_out_dir(out)
     limits = Limits(seconds=timeout, memory_mb=memory_mb)
+    options = draft_opts.draft_options(draft_unknown, min_draft_confidence,
+                                       trusted_draft_confidence)
     code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet,
-                      severities, verbose=verbose, as_json=as_json, limits=limits)
+                      severities, options, verbose=verbose, as_json=as_json,
+                      limits=limits)
     raise typer.Exit(code)
 
 

@@ -13,6 +13,7 @@ from typing import Annotated, Any, Optional
 
 import typer
 
+from certvet import cli_drafting as draft_opts
 from certvet.console import err as _err
 from certvet.console import make_out_dir, one_line
 from certvet.exitcodes import DEFAULT_FAIL_ON, EXIT_FAILED, EXIT_USAGE, parse_fail_on
@@ -21,6 +22,7 @@ from certvet.exitcodes import DEFAULT_FAIL_ON, EXIT_FAILED, EXIT_USAGE, parse_fa
 class ExportFormat(StrEnum):
     csv = "csv"
     parquet = "parquet"
+    xlsx = "xlsx"
 
 
 def _why(exc: OSError) -> str:
@@ -36,7 +38,9 @@ def batch(
         list[Path],
         typer.Option("--layout", "-l", metavar="LAYOUT",
                      help="Layout file or folder of layouts; repeatable. "
-                     "Each file's form is recognised automatically among them."),
+                     "Each file's form is recognised automatically among them; files of a form "
+                     "none recognises share a layout drafted from the first of them "
+                     "(see --no-draft-unknown-forms)."),
     ] = [],  # noqa: B006
     store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")
                      ] = Path("corpus.sqlite"),
@@ -67,6 +71,9 @@ def batch(
                                "(note, query, breach, impossible); findings across "
                                "certificates count too (a copied schedule is impossible).")
     ] = DEFAULT_FAIL_ON,
+    draft_unknown: draft_opts.DraftUnknown = True,
+    min_draft_confidence: draft_opts.MinConfidence = draft_opts.READ_AT,
+    trusted_draft_confidence: draft_opts.TrustedConfidence = draft_opts.TRUSTED_AT,
 ) -> None:
     """Audit a folder of certificates into the corpus: resumable, in parallel, never stopped by
     one bad file; then cross-certificate checks and a portfolio page."""
@@ -76,11 +83,8 @@ def batch(
     from corpus.store import CorpusError
     from extractor.layout import LayoutError, load_layouts
 
-    if not layout:
-        _err("give at least one --layout (a layout file or a folder of them)")
-        raise typer.Exit(EXIT_USAGE)
     try:
-        layouts = load_layouts(layout)
+        layouts = load_layouts(layout) if layout else []
         prof = load_profile(profile) if profile else DEFAULT_PROFILE
         severities = parse_fail_on(fail_on)
     except (LayoutError, ProfileError, ValueError) as exc:
@@ -135,7 +139,9 @@ def batch(
         report = run_batch(inputs, layouts=layouts, store=store, out_dir=out, workers=workers,
                            limits=Limits(seconds=timeout, memory_mb=memory_mb), profile=prof,
                            password=password, on_event=on_event, retry_failed=retry_failed,
-                           scheduler=scheduler, on_start=on_start, fail_on=severities)
+                           scheduler=scheduler, on_start=on_start, fail_on=severities,
+                           drafting=draft_opts.draft_options(draft_unknown, min_draft_confidence,
+                                                             trusted_draft_confidence))
     except (CorpusError, ConnectionError) as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_FAILED) from None
@@ -205,20 +211,22 @@ def portfolio(
 def export(
     store: Annotated[Path, typer.Option("--store", "-s", help="Corpus store (SQLite file).")
                      ] = Path("corpus.sqlite"),
-    format: Annotated[ExportFormat, typer.Option("--format", "-f", help="csv or parquet.")
-                      ] = ExportFormat.csv,
+    format: Annotated[ExportFormat, typer.Option(
+        "--format", "-f", help="csv or parquet (one file per table), or xlsx (one workbook: "
+        "cautions and verdicts first, then certificates, circuits, findings…).")
+    ] = ExportFormat.csv,
     out: Annotated[Path, typer.Option("--out", "-o", help="Folder to write the tables to.")
                    ] = Path("corpus-export"),
 ) -> None:
-    """Export every table of the corpus as CSV or Parquet files."""
-    from corpus.store import Corpus, CorpusError
+    """Export every table of the corpus as CSV or Parquet files, or one XLSX workbook."""
+    from certvet.export import export_store
+    from corpus.store import CorpusError
 
     if not store.exists():
         _err(f"{store}: no such corpus store")
         raise typer.Exit(EXIT_USAGE)
     try:
-        with Corpus(store) as corpus:
-            written = corpus.export(out, format.value)
+        written = export_store(store, out, format.value)
     except (CorpusError, ImportError) as exc:
         _err(" ".join(str(exc).split()))
         raise typer.Exit(EXIT_FAILED) from None

@@ -3,6 +3,7 @@
     certvet draft-layout SAMPLE.pdf -o layout.toml
     certvet preview SAMPLE.pdf --layout layout.toml -o preview.html   (or .png)
     certvet try-layout SAMPLE.pdf --layout layout.toml
+    certvet show-text SAMPLE.pdf [--page 2] [--positions]   (the lines patterns are matched on)
 
 Mount with ``cli_layouts.register(app)`` (or ``app.add_typer(cli_layouts.app)`` for a group).
 Heavy libraries are imported inside the commands. Exit codes (certvet/exitcodes.py): 0 done;
@@ -19,7 +20,7 @@ from typing import TYPE_CHECKING, Annotated
 import typer
 
 from certvet.console import err as _err
-from certvet.console import plain_console
+from certvet.console import one_line, plain_console
 from certvet.exitcodes import EXIT_FAILED, EXIT_USAGE
 from extractor.engines.names import EngineName
 
@@ -155,11 +156,49 @@ def try_layout_cmd(
         con.print("every cell parsed")
 
 
+def show_text_cmd(
+    pdf: Annotated[Path, typer.Argument(metavar="PDF", help="the PDF to read")],
+    page: Annotated[
+        list[int],
+        typer.Option("--page", "-p", min=1, help="Page number (repeatable; default: every page)."),
+    ] = [],  # noqa: B006
+    positions: Annotated[
+        bool,
+        typer.Option("--positions", help="Also print each line's box: x0 top x1 bottom, in "
+                     "points from the page's top-left corner."),
+    ] = False,
+    engine: Engine = EngineName.pdfium,
+) -> None:
+    """Print a page's text lines as the extractor reads them, for writing label, recognise and
+    header patterns. Text is printed exactly as read (never as terminal markup)."""
+    from extractor.errors import InputError
+    from extractor.show_text import page_lines
+
+    try:
+        shown = page_lines(str(pdf), pages=page or None, engine=engine.value)
+    except InputError as exc:
+        _err(str(exc))
+        raise typer.Exit(EXIT_FAILED) from None
+    for pg in shown:
+        turned = f", turned {pg.rotation}°" if pg.rotation else ""
+        typer.echo(f"--- page {pg.number} ({pg.width:.0f} x {pg.height:.0f} pt{turned}, "
+                   f"{len(pg.lines)} lines)")
+        if positions:
+            typer.echo(f"{'x0':>7} {'top':>7} {'x1':>7} {'bottom':>7}  text")
+        for ln in pg.lines:  # plain text, control characters escaped: never markup
+            text = ("[vertical] " if ln.vertical else "") + one_line(ln.text)
+            if positions:
+                typer.echo(f"{ln.x0:7.1f} {ln.top:7.1f} {ln.x1:7.1f} {ln.bottom:7.1f}  {text}")
+            else:
+                typer.echo(text)
+
+
 def register(target: typer.Typer) -> None:
-    """Add the three commands to the main `certvet` app."""
+    """Add the layout commands to the main `certvet` app."""
     target.command("draft-layout")(draft_layout_cmd)
     target.command("preview")(preview_cmd)
     target.command("try-layout")(try_layout_cmd)
+    target.command("show-text")(show_text_cmd)
 
 
 register(app)

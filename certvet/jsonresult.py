@@ -12,6 +12,10 @@ Format history:
   audited file ``verdict`` (key, headline, complete), ``counts`` (non-preview findings by
   severity slug), ``findings`` (their number), ``layout``, ``reports`` (format → path); for a
   file not audited, ``reason`` (one line naming the file).
+* 2 — an audited file has ``drafted_layout``: null, or, when it was read with a layout drafted
+  on the fly because no layout recognised its form, the note of its report (``sample``,
+  ``confidence``, ``trusted_at``, ``trusted``, ``saved_to``) plus ``message``, the line the
+  console prints.
 """
 
 from __future__ import annotations
@@ -21,7 +25,7 @@ from typing import TYPE_CHECKING, Any
 if TYPE_CHECKING:
     from certvet.api import BatchSummary
 
-FORMAT_VERSION = 1
+FORMAT_VERSION = 2
 KIND = "certvet audit result"
 
 
@@ -45,6 +49,9 @@ def audit_result_document(summary: BatchSummary, exit_code: int) -> dict[str, An
             "findings": len(counted),
             "layout": r.layout,
             "reports": {fmt: str(p) for fmt, p in r.outputs.items()},
+            "drafted_layout": None if r.certificate.drafted is None else {
+                **r.certificate.drafted.to_dict(),
+                "message": r.certificate.drafted.message(str(r.source))},
         })
     for failure in summary.failed:
         files.append({"path": str(failure.source), "status": "not_audited",

@@ -240,12 +240,19 @@ ALTER TABLE certificates DROP COLUMN verdict;
 ALTER TABLE certificates RENAME COLUMN verdict_v5 TO verdict
 """
 
+# a certificate read with a layout drafted on the fly (certvet/drafting.py): the note its
+# reports carry, kept so a verdict decided again from the store still knows it
+_V6 = """
+ALTER TABLE certificates ADD COLUMN drafted_layout TEXT  -- JSON: DraftedLayoutNote.to_dict()
+"""
+
 MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (1, "files, certificates, boards, circuits, findings, similarity index", _V1),
     (2, "certificates: rule profile used (profile_name, profile JSON)", _V2),
     (3, "circuits: RCD standard and rating, IR neutral-earth, SPD type and indicator", _V3),
     (4, "boards: board RCD IΔn and the ways it protects (split-load boards)", _V4),
     (5, "one findings table (stage, severity slugs, related hashes); verdict keys", _V5),
+    (6, "certificates: the drafted-layout note of a certificate read with a drafted layout", _V6),
 )
 
 LATEST = MIGRATIONS[-1][0]

@@ -26,7 +26,7 @@ from dataclasses import dataclass
 from datetime import UTC, date, datetime
 from importlib import metadata
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from checks.model import CheckRun, Finding, Outcome, Severity
 from checks.profile import Profile
@@ -49,12 +49,16 @@ from extractor.records import (
     Cell,
     Certificate,
     Circuit,
+    DraftedLayoutNote,
     ExtractionProblem,
     Value,
     ValueKind,
 )
 from extractor.tokens import normalise_text, parse_value
 from extractor.untrusted import spreadsheet_cell
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 _SQLITE_MAGIC = b"SQLite format 3\x00"
 EXPORT_TABLES = ("files", "certificates", "boards", "circuits", "findings", "check_runs",
@@ -448,6 +452,8 @@ class Corpus:
             "page_count": cert.page_count,
             "profile_name": results.profile.name,
             "profile": json.dumps(results.profile.to_dict(), default=str),
+            "drafted_layout": (json.dumps(cert.drafted.to_dict()) if cert.drafted is not None
+                               else None),
             **self._wide("certificates", cert.cells),
         }
         cert_id = self._insert("certificates", row)
@@ -626,10 +632,13 @@ class Corpus:
                     raise KeyError(cert_id)
                 frow = c.execute("SELECT * FROM files WHERE sha256 = ?",
                                  (crow["sha256"],)).fetchone()
+                drafted = crow["drafted_layout"]
                 cert = Certificate(source=frow["path"], sha256=crow["sha256"],
                                    layout=frow["layout"], engine=frow["engine"],
                                    page_count=crow["page_count"] or 0,
-                                   cells=_cells(crow, CERTIFICATE))
+                                   cells=_cells(crow, CERTIFICATE),
+                                   drafted=DraftedLayoutNote.from_dict(json.loads(drafted))
+                                   if drafted else None)
                 for brow in c.execute("SELECT * FROM boards WHERE cert_id = ? ORDER BY position",
                                       (cert_id,)).fetchall():
                     board = Board(ref=brow["ref"], cells=_cells(brow, BOARD), page=brow["page"])
@@ -670,15 +679,10 @@ class Corpus:
             return stored_boards(self.conn, cert_id)
 
     # --- export ---------------------------------------------------------------------------------
-    def export(self, directory: str | Path, format: str = "csv") -> list[Path]:
-        """Write each table to `directory` as CSV or Parquet; returns the files written."""
+    def frames(self) -> Iterator[tuple[str, pd.DataFrame]]:
+        """Each exported table as (name, DataFrame), in EXPORT_TABLES order."""
         import pandas as pd
 
-        if format not in ("csv", "parquet"):
-            raise ValueError(f"unknown export format {format!r} (use csv or parquet)")
-        out_dir = Path(directory)
-        out_dir.mkdir(parents=True, exist_ok=True)
-        written = []
         for table in EXPORT_TABLES:
             with self._guard(f"export {table}"):
                 try:
@@ -687,6 +691,17 @@ class Corpus:
                 except pd.errors.DatabaseError as e:  # pandas wraps sqlite3's errors
                     raise CorpusError(f"{self.path}: export {table}: "
                                       f"{e.__cause__ or e}".replace("\n", " ")) from None
+            yield table, df
+
+    def export(self, directory: str | Path, format: str = "csv") -> list[Path]:
+        """Write each table to `directory` as CSV or Parquet; returns the files written.
+        (A spreadsheet workbook of the same tables: certvet.export.export_store.)"""
+        if format not in ("csv", "parquet"):
+            raise ValueError(f"unknown export format {format!r} (use csv or parquet)")
+        out_dir = Path(directory)
+        out_dir.mkdir(parents=True, exist_ok=True)
+        written = []
+        for table, df in self.frames():
             target = out_dir / f"{table}.{format}"
             if format == "csv":  # text from PDFs: formula-like cells made spreadsheet-safe
                 df.map(spreadsheet_cell).to_csv(target, index=False)

@@ -98,11 +98,14 @@ def _text_of_page(page: PageContent) -> str:
 def _first_recognising(texts: Sequence[str], layouts: Sequence[Layout]) -> Layout | None:
     """The first layout whose `recognise.require` patterns all match the text of its first
     `recognise.pages` pages (texts: one string per page, from the first page on)."""
-    for lay in layouts:
-        text = "\n".join(texts[: lay.recognise.pages])
-        if all(p.search(text) for p in lay.recognise.require):
-            return lay
-    return None
+    return next((lay for lay in layouts if recognises(texts, lay)), None)
+
+
+def recognises(texts: Sequence[str], layout: Layout) -> bool:
+    """Whether the layout's `recognise.require` patterns all match the text of its first
+    `recognise.pages` pages (texts: one string per page, from the first page on)."""
+    text = "\n".join(texts[: layout.recognise.pages])
+    return all(p.search(text) for p in layout.recognise.require)
 
 
 def file_sha256(path: str) -> str:

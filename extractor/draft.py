@@ -291,14 +291,21 @@ def _find_table(page: PageContent, lines: list[Line], run: list[Line]) -> _Table
         extra = [
             c
             for c in cands
-            if c.bottom >= header_bottom - 12
-            and not any(_overlap(c.x0, c.x1, a, b) > 0 for a, b in slots)
-            and not any(
-                o.nwords > c.nwords
-                and o.x0 <= c.x0 + 0.5
-                and o.x1 >= c.x1 - 0.5
-                and abs(o.top - c.top) < 1
-                for o in cands
+            if not any(_overlap(c.x0, c.x1, a, b) > 0 for a, b in slots)
+            and (
+                # a label right of every column of data: an empty last column ("Remarks"),
+                # even when printed close to its neighbour's label ("Points Remarks")
+                (c.x0 > max(b for _, b in slots) + 2 and c.nwords == 1)
+                or (
+                    c.bottom >= header_bottom - 12
+                    and not any(
+                        o.nwords > c.nwords
+                        and o.x0 <= c.x0 + 0.5
+                        and o.x1 >= c.x1 - 0.5
+                        and abs(o.top - c.top) < 1
+                        for o in cands
+                    )
+                )
             )
         ]
         for cand in extra:
@@ -495,7 +502,17 @@ def _match_fields(cols: list[ColumnGuess], table: _Table, ambiguities: list[str]
             col.confidence = min(col.confidence, 0.5)
             col.note = (col.note + "; " if col.note else "") + agree.reason
             ambiguities.append(f"column {col.label!r} is headed like {f} but its {agree.reason}")
-        rivals = [(s2, f2) for s2, f2 in by_col.get(i, []) if f2 != f and s - s2 < 0.1]
+        # a close second is no rival when another column has it as its own best match at
+        # least as strongly ("RCD | BS (EN)" next to "Overcurrent device | BS (EN)")
+        rivals = [
+            (s2, f2)
+            for s2, f2 in by_col.get(i, [])
+            if f2 != f
+            and s - s2 < 0.1
+            and not any(
+                j != i and opts[0][1] == f2 and opts[0][0] >= s2 for j, opts in by_col.items()
+            )
+        ]
         if rivals and not _combined_sep(col.samples):
             col.confidence = min(col.confidence, 0.6)
             ambiguities.append(
@@ -910,6 +927,11 @@ def draft_layout(
         nxt = below[0]
         if (board_start and re.search(board_start, nxt.text)) or is_heading_line(nxt.text):
             continue  # the next board's block: the table goes on there
+        if any(
+            o is not t and o.page == t.page and o.rows[0].top > nxt.top and _same_form(o, main)
+            for o in tables
+        ):
+            continue  # more rows of the form follow on this page (a repeated header, a board)
         pat = _line_start(nxt.text, data)
         if pat and pat not in end:
             end.append(pat)

@@ -21,3 +21,7 @@ class InputError(Exception):
 
 class NoLayoutMatches(InputError):
     """No layout recognised the file, or the chosen layout found no schedule in it."""
+
+
+class NotRecognised(NoLayoutMatches):
+    """No layout recognised the file's form (and none was drafted for it)."""

@@ -164,6 +164,54 @@ class ExtractionProblem:
     box: Box | None = None
 
 
+@dataclass(frozen=True)
+class DraftedLayoutNote:
+    """The certificate was read with a layout drafted on the fly, because no layout recognised
+    its form (certvet/drafting.py). Nobody has checked that layout: the reports say so.
+
+    Below `trusted_at` the certificate is never called "no concerns found" (reports/verdict.py).
+    """
+
+    sample: str  # the PDF the layout was drafted from (this file, or an earlier one of its form)
+    confidence: float  # 0…1, see extractor.draft_reading.DraftQuality
+    trusted_at: float  # the trusted threshold of the run that read it
+    saved_to: str | None = None  # the drafted layout file written for review and reuse
+
+    @property
+    def trusted(self) -> bool:
+        return self.confidence >= self.trusted_at
+
+    def message(self, source: str | None = None) -> str:
+        """One line for reports and the console."""
+        from pathlib import Path
+
+        if source is not None and Path(source).resolve() != Path(self.sample).resolve():
+            origin = f"drafted from {Path(self.sample).name} (same form)"
+        else:
+            origin = "drafted from this file"
+        text = (f"read with a layout {origin}, confidence {self.confidence:.2f}; "
+                "check it before relying on the result")
+        if self.saved_to:
+            text += f" (layout saved as {self.saved_to})"
+        return text
+
+    def untrusted_reason(self) -> str:
+        """Why the audit is incomplete when the draft is not trusted."""
+        return (f"read with a layout drafted from the file, confidence {self.confidence:.2f}, "
+                f"below the {self.trusted_at:.2f} needed to trust it: check the drafted "
+                "layout, then audit again with it")
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"sample": self.sample, "confidence": self.confidence,
+                "trusted_at": self.trusted_at, "trusted": self.trusted,
+                "saved_to": self.saved_to}
+
+    @classmethod
+    def from_dict(cls, d: dict[str, Any]) -> DraftedLayoutNote:
+        return cls(str(d["sample"]), float(d["confidence"]), float(d["trusted_at"]),
+                   None if d.get("saved_to") is None else str(d["saved_to"]))
+
+
 @dataclass
 class Certificate:
     source: str  # path of the PDF as given
@@ -174,6 +222,7 @@ class Certificate:
     cells: dict[str, Cell] = field(default_factory=dict)
     boards: list[Board] = field(default_factory=list)
     problems: list[ExtractionProblem] = field(default_factory=list)
+    drafted: DraftedLayoutNote | None = None  # set when read with a layout drafted on the fly
 
     @property
     def name(self) -> str:

@@ -25,6 +25,10 @@ Format history:
   ``not_applicable``, ``disabled``), with ``outcome_label`` as printed ("found 3"); adds
   ``cautions`` (after ``verdict``): the cautions every report carries (a desk check cannot show
   an installation is safe…). Versions 1 to 3 are still read.
+* 5 — adds ``certificate.drafted_layout``: null, or how the layout that read the certificate
+  was drafted on the fly because no layout recognised the form (``sample``: the PDF it was
+  drafted from, ``confidence``, ``trusted_at``: the trusted threshold, ``trusted``,
+  ``saved_to``: the drafted layout file, or null). Versions 1 to 4 are still read.
 
 ``certificate_from_json`` rebuilds the ``Certificate`` from a document, so checks can be
 re-run on a saved report without the PDF.
@@ -47,6 +51,7 @@ from extractor.records import (
     Cell,
     Certificate,
     Circuit,
+    DraftedLayoutNote,
     ExtractionProblem,
     Value,
     ValueKind,
@@ -54,8 +59,8 @@ from extractor.records import (
 from reports.model import CAUTIONS, RelatedFinding
 from reports.verdict import decide
 
-FORMAT_VERSION = 4
-READABLE_VERSIONS = (1, 2, 3, 4)
+FORMAT_VERSION = 5
+READABLE_VERSIONS = (1, 2, 3, 4, 5)
 
 
 def _box(box: Box | None) -> dict[str, Any] | None:
@@ -94,6 +99,7 @@ def report_dict(
             "engine": cert.engine,
             "page_count": cert.page_count,
             "cells": _cells(cert.cells),
+            "drafted_layout": cert.drafted.to_dict() if cert.drafted is not None else None,
         },
         "boards": [
             {
@@ -214,6 +220,8 @@ def certificate_from_json(data: dict[str, Any]) -> Certificate:
         engine=c["engine"],
         page_count=c["page_count"],
         cells=_cells_from(c["cells"]),
+        drafted=DraftedLayoutNote.from_dict(c["drafted_layout"]) if c.get("drafted_layout")
+        else None,
     )
     for b in data["boards"]:
         board = Board(ref=b["ref"], cells=_cells_from(b["cells"]), page=b["page"])

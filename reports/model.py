@@ -249,6 +249,7 @@ class ReportView:
     related: list[RelatedView] = field(default_factory=list)  # cross-certificate findings
     related_note: str = ""  # the verdict box's sentence about them
     problems_hidden: int = 0  # extraction problems not listed (all are in the JSON)
+    drafted_note: str = ""  # read with a layout drafted on the fly: the verdict box says so
 
 
 # --------------------------------------------------------------------------------------------
@@ -561,6 +562,7 @@ def build_report(
         circuit_count=circuits,
         related=_related_views(tuple(related)),
         related_note=_related_note(tuple(related)),
+        drafted_note=cert.drafted.message(cert.source) if cert.drafted is not None else "",
     )
 
 

@@ -2,7 +2,8 @@
 
 Every wording the reports use for a verdict lives here, and only here. The verdict comes from
 the worst finding that counts (preview findings never count). A certificate that could not be
-read completely (extraction problems, unreadable cells, or no circuits at all) is never called
+read completely (extraction problems, unreadable cells, or no circuits at all), or was read
+with a drafted layout whose confidence is below the trusted level, is never called
 "no concerns found": the audit is incomplete, and the verdict says so.
 """
 
@@ -120,6 +121,8 @@ class Verdict:
 def incomplete_reasons(cert: Certificate) -> tuple[str, ...]:
     """Why an audit of this certificate cannot be complete (empty when it can)."""
     reasons: list[str] = []
+    if cert.drafted is not None and not cert.drafted.trusted:
+        reasons.append(cert.drafted.untrusted_reason())
     if not any(b.circuits for b in cert.boards):
         reasons.append("no circuits were read from the schedule of test results")
     if cert.problems:

@@ -21,8 +21,15 @@ the printed cells; circuits the layout reads that the truth does not hold count 
 Pitfall PDFs (fixtures/forms_extra/<pitfall>-*.pdf) are certificates of their form like any
 other in part 2, and are measured with their final layout by `--pitfalls`.
 
-Run: .venv/bin/python scripts/layout_accuracy.py [--engine pdfium] [--pitfalls] [-v]
-Figures are printed, never asserted here; tests/test_draft.py pins them as lower bounds.
+Part 3, with no layout at all (`--no-layout`): every certificate of every form audited in ONE
+run with no layout given, as `certvet audit FOLDER/` does it (certvet.api.audit_many: a layout
+drafted on the fly from the first file of each unknown form, shared by later files of the form),
+per form: certificates read, read by a layout drafted from another form's file, layouts
+drafted, row recall, cell accuracy.
+
+Run: .venv/bin/python scripts/layout_accuracy.py [--engine pdfium] [--pitfalls] [--no-layout] [-v]
+Figures are printed, never asserted here; tests/test_draft.py and
+tests/test_audit_without_layout.py pin them as lower bounds.
 """
 
 from __future__ import annotations
@@ -208,10 +215,16 @@ def measure_form(pdf: str, engine: str = "pdfium") -> FormResult:
 
 
 def read_without_layout(pdf: str) -> Any | None:
-    """Hook for the "with no layout at all" figure: read `pdf` the way `audit` does when no
-    layout recognises it, and return the Certificate (or None when it refuses). Not built yet
-    (issue #9 item 2): returns None, and the figure is printed as "not measured"."""
-    return None
+    """The "with no layout at all" figure: read `pdf` the way `audit` does when no layout is
+    given (a layout drafted from the file itself), and return the Certificate, or None when it
+    is refused (no draft, or a draft below the read threshold)."""
+    from certvet.api import audit_file
+    from extractor.errors import InputError
+
+    try:
+        return audit_file(pdf, layouts=[]).certificate
+    except InputError:
+        return None
 
 
 @dataclass
@@ -230,8 +243,11 @@ class FormFigures:
         return self.recognised / self.certificates if self.certificates else 0.0
 
 
-def draft_all(engine: str = "pdfium", out: Path | None = None) -> dict[str, Any]:
-    """form → its unedited draft Layout (or the DraftError text), drafted from FORM_SAMPLES."""
+def draft_all(
+    engine: str = "pdfium", out: Path | None = None, samples: dict[str, str] | None = None
+) -> dict[str, Any]:
+    """form → its unedited draft Layout (or the DraftError text), drafted from `samples`
+    (default FORM_SAMPLES)."""
     from extractor.draft import draft_layout
     from extractor.errors import InputError
     from extractor.layout import load_layout
@@ -239,7 +255,7 @@ def draft_all(engine: str = "pdfium", out: Path | None = None) -> dict[str, Any]
     drafts: dict[str, Any] = {}
     with tempfile.TemporaryDirectory() as tmp:
         folder = out or Path(tmp)
-        for form, sample in FORM_SAMPLES.items():
+        for form, sample in (samples or FORM_SAMPLES).items():
             try:
                 res = draft_layout(ROOT / sample, engine=engine, name=form)
             except InputError as exc:
@@ -255,15 +271,19 @@ def measure_all(
     engine: str = "pdfium",
     forms: dict[str, list[str]] | None = None,
     no_layout: Callable[[str], Any | None] = read_without_layout,
+    samples: dict[str, str] | None = None,
 ) -> list[FormFigures]:
-    """Part 2: draft one sample per form, then read every certificate with the drafts."""
+    """Part 2: draft one sample per form, then read every certificate with the drafts.
+    `forms` (default: every fixture form) limits the certificates read, `samples` (default
+    FORM_SAMPLES) names the certificate each form's draft is made from."""
     from extractor.api import _first_recognising, extract, page_text
     from extractor.errors import InputError
 
     forms = forms or certificates_by_form()
-    drafts = draft_all(engine)
+    samples = samples or FORM_SAMPLES
+    drafts = draft_all(engine, samples=samples)
     layouts = [lay for lay in drafts.values() if not isinstance(lay, str)]
-    figures = {f: FormFigures(f, FORM_SAMPLES.get(f, "")) for f in forms}
+    figures = {f: FormFigures(f, samples.get(f, "")) for f in forms}
     for form, d in drafts.items():
         if isinstance(d, str) and form in figures:
             figures[form].draft_error = d
@@ -310,6 +330,8 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--engine", default="pdfium")
     ap.add_argument("--pitfalls", action="store_true", help="also measure the pitfall PDFs")
     ap.add_argument("-v", "--verbose", action="store_true", help="list wrong cells")
+    ap.add_argument("--no-layout", action="store_true",
+                    help="also audit every fixture certificate in one run with no layout given")
     args = ap.parse_args(argv)
     print("Part 1: each form's sample, drafted and read with its draft and its final layout")
     print(f"{'form sample':<44} {'matched':>8} {'draft':>8} {'final':>8}")
@@ -361,7 +383,64 @@ def main(argv: list[str] | None = None) -> int:
             if args.verbose:
                 for w in sc.wrong:
                     print(f"    {w}")
+    if args.no_layout:
+        print_without_layout(measure_without_layout(), args.verbose)
     return 0
+
+
+# --- part 3: one run with no layout at all (layouts drafted on the fly, shared) ------------------
+
+
+@dataclass
+class NoLayoutForm:
+    form: str
+    certificates: int = 0
+    read: int = 0
+    read_by_other_form: int = 0  # read with a layout drafted from another form's file
+    drafted: set[str] = field(default_factory=set)  # layouts drafted from this form's files
+    cells: Score = field(default_factory=Score)
+    refused: list[str] = field(default_factory=list)
+
+
+def measure_without_layout(forms: dict[str, list[str]] | None = None) -> list[NoLayoutForm]:
+    """Audit every certificate of the forms in one run, input sorted, with no layout given
+    (drafting on, default thresholds); score each against its truth, per form."""
+    from certvet.api import audit_many
+
+    forms = forms or certificates_by_form()
+    form_of = {ROOT / pdf: form for form, pdfs in forms.items() for pdf in pdfs}
+    results = {form: NoLayoutForm(form, len(pdfs)) for form, pdfs in forms.items()}
+    with tempfile.TemporaryDirectory() as tmp:
+        summary = audit_many(sorted(form_of), layouts=[], out_dir=Path(tmp))
+    for res in summary.audited:
+        entry = results[form_of[res.source]]
+        entry.read += 1
+        note = res.certificate.drafted
+        if note is not None:
+            entry.read_by_other_form += form_of.get(Path(note.sample)) != entry.form
+            if Path(note.sample) == res.source:
+                entry.drafted.add(res.layout)
+        sc = cell_accuracy(res.certificate, load_truth(res.source))
+        sc.wrong = [f"{res.source.name}: {w}" for w in sc.wrong[:3]]
+        entry.cells.add(sc)
+    for fail in summary.failed:
+        entry = results[form_of[fail.source]]
+        entry.cells.add(_unread(load_truth(fail.source), fail.reason))
+        entry.refused.append(fail.reason)
+    return sorted(results.values(), key=lambda f: f.form)
+
+
+def print_without_layout(results: list[NoLayoutForm], verbose: bool = False) -> None:
+    print("\nPart 3: every certificate in one run with no layout at all (drafted on the fly)")
+    print(f"{'form':<16} {'read':>7} {'by other':>8} {'drafts':>6} {'rows':>8} {'cells':>8}")
+    for r in results:
+        print(f"{r.form:<16} {f'{r.read}/{r.certificates}':>7} {r.read_by_other_form:>8} "
+              f"{len(r.drafted):>6} {_pct(r.cells.row_recall):>8} {_pct(r.cells.share):>8}")
+        for w in r.refused:
+            print(f"    refused: {w}")
+        if verbose:
+            for w in r.cells.wrong:
+                print(f"    cell: {w}")
 
 
 if __name__ == "__main__":

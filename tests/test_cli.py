@@ -25,7 +25,7 @@ def test_clean_certificate_exits_0(tmp_path: Path) -> None:
     assert "NO CONCERNS FOUND" in res.output
     assert (tmp_path / "grid-clean-01.html").exists()
     data = json.loads((tmp_path / "grid-clean-01.json").read_text())
-    assert data["format_version"] == 4
+    assert data["format_version"] == 5
 
 
 def test_breach_exits_1(tmp_path: Path) -> None:
@@ -59,9 +59,13 @@ def test_unrecognised_form_is_a_clear_failure(tmp_path: Path) -> None:
     lay = re.sub(r"require = .*", 'require = ["NO SUCH FORM TEXT"]', lay, count=1)
     (tmp_path / "other.toml").write_text(lay)
     res = runner.invoke(app, ["audit", str(DEMO / "grid-clean-01.pdf"), "-l",
-                              str(tmp_path / "other.toml"), "-o", str(tmp_path / "o")])
+                              str(tmp_path / "other.toml"), "-o", str(tmp_path / "o"),
+                              "--no-draft-unknown-forms"])
     assert res.exit_code == 3
     assert "no layout recognises this form" in res.output
+    # the error names the command that drafts a layout to fix it
+    assert f"certvet draft-layout {DEMO / 'grid-clean-01.pdf'} -o form.toml" in res.output
+    assert not (tmp_path / "o" / "drafted-layouts").exists()
 
 
 def test_invalid_layout_is_a_usage_error(tmp_path: Path) -> None:

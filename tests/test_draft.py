@@ -12,7 +12,7 @@ import pytest
 
 from extractor.draft import DraftError, draft_layout
 from extractor.header_terms import match_header
-from extractor.layout import load_layout
+from extractor.layout import load_layout, parse_layout
 
 ROOT = Path(__file__).resolve().parents[1]
 _spec = importlib.util.spec_from_file_location(
@@ -334,3 +334,48 @@ def test_stacked_boards_on_one_unruled_page() -> None:
     assert "Distribution" in data["board"]["start"]
     for end in data["schedule"].get("end", []):
         assert not re.search(end, "Distribution board DB2 Location Garage — fed from DB1")
+
+
+def test_two_level_header_with_the_same_labels_under_two_groups() -> None:
+    """"BS (EN)" and "Rating (A)" under both "Overcurrent device" and "RCD" (the A2:2022 model
+    schedule's RCD columns): each goes to its own field, confidently."""
+    res = draft_layout(ROOT / "fixtures/forms_new/twolevel-html-01.pdf")
+    by_field = {f: c for c in res.columns for f in c.fields}
+    assert by_field["rcd_standard"].group == "RCD"
+    assert by_field["device_standard"].group == "Overcurrent device"
+    assert by_field["rcd_rating"].index != by_field["rating"].index
+    for f in ("rcd_standard", "rcd_rating", "ir_neutral_earth", "afdd_button"):
+        assert by_field[f].confidence >= 0.75, f
+
+
+def test_drafted_recognition_is_fixed_wording_checked_against_the_sample() -> None:
+    from extractor.api import page_text, recognise
+
+    pdf = ROOT / "fixtures/forms_new/stacked-canvas-02.pdf"
+    res = draft_layout(pdf)
+    lay = parse_layout(__import__("tomllib").loads(res.toml), "<draft>")
+    assert "(?s)." not in [p.pattern for p in lay.recognise.require]
+    assert lay.recognise.require[0].pattern == r"(?m)^Certificate\s+of\s+Electrical\s+Testing$"
+    text = "\n".join(page_text(str(pdf), pages=lay.recognise.pages))
+    assert all(p.search(text) for p in lay.recognise.require)
+    assert recognise(str(ROOT / "fixtures/forms_new/stacked-canvas-04.pdf"), [lay]) is lay
+    assert recognise(str(ROOT / "fixtures/forms_new/twolevel-html-01.pdf"), [lay]) is None
+
+
+NEW_FORM_CERTIFICATES = [
+    (form, pdf)
+    for form, pdfs in sorted(acc.certificates_by_form().items())
+    if pdfs[0].startswith("fixtures/forms_new/")
+    for pdf in pdfs
+]
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize(("form", "sample"), NEW_FORM_CERTIFICATES, ids=lambda v: Path(v).stem)
+def test_a_draft_from_any_certificate_reads_its_whole_form(form: str, sample: str) -> None:
+    """Whichever certificate of a new form the draft is made from, it recognises and reads
+    every certificate of that form (the sample's own data plays no part)."""
+    forms = acc.certificates_by_form()
+    (fig,) = acc.measure_all(forms={form: forms[form]}, samples={form: sample})
+    assert fig.recognised == fig.certificates, fig.draft_error
+    assert fig.read.row_recall == 1.0 and fig.read.share == 1.0, fig.read.wrong

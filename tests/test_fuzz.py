@@ -16,7 +16,7 @@ from hypothesis import strategies as st
 from extractor.fields import BOARD, CERTIFICATE, FIELDS, FieldKind
 from extractor.layout import Layout, LayoutError, parse_layout
 from extractor.records import Value, ValueKind
-from extractor.tokens import normalise_text, parse_value
+from extractor.tokens import normalise_text, parse_value, ticked_choice
 
 EXAMPLES = int(os.environ.get("CERTVET_FUZZ_EXAMPLES", "1000"))
 FUZZ = settings(max_examples=EXAMPLES, deadline=None,
@@ -159,3 +159,13 @@ def test_layout_rejects_non_finite_numbers(section: str, key: str, value: object
 
 def test_valid_layout_parses() -> None:  # the mutation base is itself valid
     assert parse_layout(_valid_layout(), "fuzz.toml").name == "fuzz"
+
+
+@FUZZ
+@given(text=st.text(CELL_ALPHABET + "☐□☑☒TNCS-", max_size=40))
+def test_ticked_choice_never_raises_and_never_guesses(text: str) -> None:
+    choices = ("TN-C-S", "TN-S", "TT")
+    choice, reason = ticked_choice(text, choices)
+    assert (choice is None) != (reason == "")
+    if choice is not None:
+        assert choice in choices and choice.lower() in text.lower()

@@ -103,7 +103,7 @@ def test_json_has_the_related_entries_and_reads_back(runs) -> None:
     for here, there in ((CLEAN, COPIED), (COPIED, CLEAN)):
         doc = json.loads(_html(out, here).with_suffix(".json").read_text())
         other_doc = json.loads(_html(out, there).with_suffix(".json").read_text())
-        assert doc["format_version"] == 4
+        assert doc["format_version"] == 5
         (rel,) = doc["related"]
         assert rel["finding"]["check_id"] == COPIED_CHECK
         assert rel["finding"]["related"] == [_number(other_doc)]

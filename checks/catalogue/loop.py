@@ -425,7 +425,9 @@ class ZsOver80PercentRule(CircuitCheck):
 
     What it checks:
     On a circuit whose measured Zs is within the device's maximum (Tables 41.2–41.4) but
-    above factor × maximum (0.8 by default).
+    above factor × maximum (0.8 by default), at the disconnection time Reg 411.3.2 sets for
+    the circuit. TT circuits with RCD protection are left out (the RCD gives fault
+    protection there).
 
     Why it matters:
     Zs is measured with the cables cool; under fault and full load the conductors are hotter
