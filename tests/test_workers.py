@@ -59,12 +59,15 @@ pids = Path(sys.argv[1])
 
 def job(path):
     (pids / f"{os.getpid()}.pid").write_text(path.name)
+    if path.name.startswith("quick"):
+        return "done"
     if path.name.startswith("big"):
+        time.sleep(1)  # after the parent has taken the quick result and stopped reading
         return b"x" * (64 * 1024 * 1024)  # far larger than a pipe holds: blocks in send
     time.sleep(120)
 
-for outcome in run_isolated([Path("big-1"), Path("sleep-2")], job, workers=2,
-                            limits=Limits(seconds=300, memory_mb=0)):
+files = [Path("quick-1"), Path("big-2"), Path("sleep-3")]
+for outcome in run_isolated(files, job, workers=3, limits=Limits(seconds=300, memory_mb=0)):
     time.sleep(300)  # the parent is busy: the big result waits in the pipe
 """
 
@@ -85,13 +88,13 @@ def test_children_die_with_a_killed_parent(tmp_path: Path) -> None:
     parent = subprocess.Popen([sys.executable, "-c", _ORPHAN_SCRIPT, str(tmp_path)], cwd=root)
     try:
         for _ in range(600):
-            if len(list(tmp_path.glob("*.pid"))) == 2:
+            if len(list(tmp_path.glob("*.pid"))) == 3:
                 break
             time.sleep(0.05)
         children = [int(p.stem) for p in tmp_path.glob("*.pid")]
-        assert len(children) == 2
-        time.sleep(0.5)  # let the big result fill the pipe
-        assert all(_alive(pid) for pid in children)
+        assert len(children) == 3
+        time.sleep(2.0)  # the quick child is done; the big one is blocked handing over
+        assert any(_alive(pid) for pid in children)
     finally:
         parent.kill()
         parent.wait()
