@@ -1,8 +1,10 @@
 """The library API: everything the CLI does is reachable from here.
 
     from certvet.api import audit_file, load_layouts
-    result = audit_file("cert.pdf", layouts=load_layouts([Path("layouts/")]), out_dir=Path("out"))
+    result = audit_file("cert.pdf", layouts=load_layouts("layouts/"), out_dir="out")
     print(result.verdict.label, len(result.results.findings))
+    result.findings_frame()        # pandas DataFrames of the findings and the circuits
+    result.circuits_frame()
 
 Heavy libraries (pdfplumber, pandas, jinja2) are imported inside the functions that need them,
 so importing this module — and the CLI's --help — stays fast.
@@ -12,6 +14,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
+from datetime import date
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -23,6 +26,8 @@ from extractor.layout import Layout, LayoutError, load_layout, load_layouts
 from extractor.records import Certificate
 
 if TYPE_CHECKING:  # reports.verdict is imported lazily, in AuditResult.verdict
+    import pandas as pd
+
     from certvet.drafting import DraftedForms, DraftOptions
     from certvet.workers import Limits
     from reports.verdict import Verdict
@@ -68,6 +73,18 @@ class AuditResult:
 
         return verdict_for(self.certificate, self.results)
 
+    def circuits_frame(self) -> pd.DataFrame:
+        """The certificate's circuits as a DataFrame (extractor.frame.circuits_frame)."""
+        from extractor.frame import circuits_frame
+
+        return circuits_frame(self.certificate)
+
+    def findings_frame(self) -> pd.DataFrame:
+        """The findings as a DataFrame (checks.frame.findings_frame)."""
+        from checks.frame import findings_frame
+
+        return findings_frame(self.results.findings)
+
     @property
     def has_breach(self) -> bool:
         from checks.model import Severity
@@ -92,22 +109,29 @@ class BatchSummary:
         return len(self.audited) + len(self.failed)
 
 
+REPORT_FORMATS = ("html", "json", "csv", "summary", "queries")
+"""What a per-certificate audit writes: the report (HTML, JSON, CSV), the landlord's summary
+(`<stem>.summary.html`) and the contractor's query sheet (`<stem>.queries.html`)."""
+
+
 def audit_file(
     pdf: str | Path,
     *,
     layouts: Sequence[Layout] = (),
     layout: Layout | None = None,
-    profile: Profile | None = None,
-    out_dir: Path | None = None,
+    profile: Profile | str | Path | None = None,
+    out_dir: str | Path | None = None,
     engine: str | None = None,
     password: str | None = None,
-    formats: Iterable[str] = ("html", "json", "csv"),
+    formats: Iterable[str] = REPORT_FORMATS,
     stem: str | None = None,
     drafting: DraftOptions | None = None,
     drafts: DraftedForms | None = None,
+    audit_date: date | None = None,
 ) -> AuditResult:
     """Extract, check and (when out_dir is given) write the reports for one PDF, named
-    `<stem>.*` (default: the PDF's name).
+    `<stem>.*` (default: the PDF's name). `audit_date`: the date the audit speaks for
+    (default: the profile's, else today).
 
     When no layout recognises the file, a layout is drafted from it (certvet/drafting.py;
     `drafting=DraftOptions(enabled=False)` turns that off). `drafts` carries the layouts drafted
@@ -119,6 +143,9 @@ def audit_file(
     from extractor.api import extract
 
     path = Path(pdf)
+    out_dir = Path(out_dir) if out_dir is not None else None
+    if isinstance(profile, (str, Path)):
+        profile = load_profile(Path(profile))
     if not path.exists():
         raise InputError(str(path), "file not found")
     if path.is_dir():
@@ -129,7 +156,7 @@ def audit_file(
         if drafts is None:
             drafts = new_drafts(drafting, out_dir, layouts)
         chosen, cert = _recognise_or_draft(str(path), layouts, drafts, engine, password)
-    results = run_checks(cert, profile or DEFAULT_PROFILE)
+    results = run_checks(cert, profile or DEFAULT_PROFILE, audit_date=audit_date)
     result = AuditResult(path, cert, results, chosen.name)
     if out_dir is not None:
         result.outputs = write_reports(result, out_dir, formats, profile or DEFAULT_PROFILE,
@@ -190,11 +217,12 @@ def write_reports(
     stem: str | None = None,
 ) -> dict[str, Path]:
     """Write the certificate's reports as `<out_dir>/<stem>.html|.json|.records.csv|
-    .findings.csv` (stem: the PDF's name by default). A folder that cannot be written is a
-    ReportWriteError (an InputError) naming it, never a traceback."""
+    .findings.csv|.summary.html|.queries.html` (stem: the PDF's name by default). A folder
+    that cannot be written is a ReportWriteError (an InputError) naming it, never a traceback."""
     from reports.csvout import write_csv
     from reports.html import write_html
     from reports.jsonout import write_json
+    from reports.readers import write_query_sheet, write_summary
 
     stem = stem or result.source.stem
     cert, res = result.certificate, result.results
@@ -211,6 +239,12 @@ def write_reports(
         if "csv" in fmts:
             records, findings = write_csv(cert, res, out_dir / stem)
             outputs["records_csv"], outputs["findings_csv"] = Path(records), Path(findings)
+        if "summary" in fmts:
+            outputs["summary"] = write_summary(cert, res, out_dir / f"{stem}.summary.html",
+                                               certvet_version=__version__)
+        if "queries" in fmts:
+            outputs["queries"] = write_query_sheet(cert, res, out_dir / f"{stem}.queries.html",
+                                                   certvet_version=__version__)
     except OSError as exc:
         where = exc.filename or out_dir
         why = exc.strerror or exc

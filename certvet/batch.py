@@ -230,10 +230,10 @@ class AuditJob:
     def write_reports(self, result: AuditResult, out_dir: Path) -> dict[str, Path]:
         """The certificate's own reports (html, json, csv) as `<stem>-<sha8>.*` in out_dir
         (also called by a Dask worker, certvet/distributed.py, with the job it was given)."""
-        from certvet.api import write_reports
+        from certvet.api import REPORT_FORMATS, write_reports
 
         stem = report_stem(result.source, result.certificate.sha256)
-        return write_reports(result, out_dir, ("html", "json", "csv"), self.profile, stem)
+        return write_reports(result, out_dir, REPORT_FORMATS, self.profile, stem)
 
 
 # --- the run --------------------------------------------------------------------------------

@@ -109,18 +109,31 @@ EngineChoice = EngineName  # the names defined once, in extractor/engines/names.
 
 
 def _load_inputs(
-    layout_paths: list[Path], profile_path: Path | None
+    layout_paths: list[Path], profile_path: Path | None, audit_date: str | None = None
 ) -> tuple[list[Layout], Profile]:
-    from checks.profile import DEFAULT_PROFILE, ProfileError, load_profile
+    import dataclasses
+
+    from checks.profile import DEFAULT_PROFILE, ProfileError, load_profile, parse_audit_date
     from extractor.layout import LayoutError, load_layouts
 
     try:
         layouts = load_layouts(layout_paths) if layout_paths else []
         profile = load_profile(profile_path) if profile_path else DEFAULT_PROFILE
+        if audit_date is not None:
+            profile = dataclasses.replace(
+                profile, audit_date=parse_audit_date(audit_date, "--audit-date"))
     except (LayoutError, ProfileError) as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_USAGE) from None
     return layouts, profile
+
+
+AuditDateOption = Annotated[
+    Optional[str],  # noqa: UP045
+    typer.Option("--audit-date", metavar="YYYY-MM-DD",
+                 help="The date the audit speaks for (certificate age, future dates); "
+                 "default: today."),
+]
 
 
 def _run_batch(
@@ -290,6 +303,7 @@ def audit(
     draft_unknown: draft_opts.DraftUnknown = True,
     min_draft_confidence: draft_opts.MinConfidence = draft_opts.READ_AT,
     trusted_draft_confidence: draft_opts.TrustedConfidence = draft_opts.TRUSTED_AT,
+    audit_date: AuditDateOption = None,
 ) -> None:
     """Audit certificates: extract the schedule, run every check, write HTML/JSON/CSV reports.
     Each file is audited in its own process with the time and memory limits of `batch`."""
@@ -301,7 +315,7 @@ def audit(
     except ValueError as exc:
         _err(str(exc))
         raise typer.Exit(EXIT_USAGE) from None
-    layouts, prof = _load_inputs(layout, profile)
+    layouts, prof = _load_inputs(layout, profile, audit_date)
     files = expand_inputs(pdfs)
     if not files:
         _err(f"{', '.join(str(p) for p in pdfs)}: no PDF files found")

@@ -11,6 +11,7 @@ from __future__ import annotations
 import dataclasses
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
+from datetime import date
 from typing import Any, ClassVar
 
 from checks.model import Finding, Severity
@@ -67,6 +68,17 @@ class Check:
     def __init__(self, options: Any | None = None, severity: Severity | None = None) -> None:
         self.options = options if options is not None else self.Options()
         self.effective_severity = severity or self.severity
+        self.audit_date: date | None = None  # set by the runner; None: today
+        self.not_applicable_reason: str | None = None  # why it did not apply, when it says
+
+    def today(self) -> date:
+        """The audit date: the one the run was given (tests, gold files), else today."""
+        return self.audit_date or date.today()
+
+    def not_applicable(self, reason: str) -> None:
+        """Record why the check does not apply (shown with its "not applicable" outcome);
+        the caller then returns None."""
+        self.not_applicable_reason = reason
 
     # --- to implement: one of these -------------------------------------------------------
     def run(self, cert: Certificate) -> tuple[int, list[Finding]]:

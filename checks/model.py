@@ -156,6 +156,7 @@ class CheckRun:
     applied_to: int  # how many circuits/boards/certificates it looked at
     findings: int
     options: dict[str, Any] = field(default_factory=dict)
+    reason: str | None = None  # why a check did not apply, when it says
 
 
 FINDING_COLUMNS = (

@@ -5,6 +5,7 @@ A profile is a TOML file::
     [profile]
     name = "strict-desk-audit"
     description = "Our scheme's desk audit"
+    audit_date = 2026-12-01          # optional: the date the audit speaks for (else today)
 
     [checks.zs-over-80-percent-rule]
     enabled = false
@@ -25,6 +26,7 @@ from __future__ import annotations
 import dataclasses
 import math
 from dataclasses import dataclass, field
+from datetime import date
 from pathlib import Path
 from typing import Any
 
@@ -52,6 +54,7 @@ class Profile:
     description: str = "certvet's defaults"
     path: str | None = None
     checks: dict[str, CheckSettings] = field(default_factory=dict)
+    audit_date: date | None = None  # the date the audit speaks for; None: the day it runs
 
     def settings(self, check_id: str) -> CheckSettings:
         return self.checks.get(check_id, CheckSettings())
@@ -67,6 +70,7 @@ class Profile:
             "name": self.name,
             "description": self.description,
             "path": self.path,
+            "audit_date": self.audit_date.isoformat() if self.audit_date else None,
             "checks": {
                 cid: {"enabled": s.enabled,
                       "severity": s.severity.slug if s.severity is not None else None,
@@ -89,10 +93,22 @@ class Profile:
         }
         return cls(name=str(data.get("name", "default")),
                    description=str(data.get("description", "")),
-                   path=data.get("path"), checks=checks)
+                   path=data.get("path"), checks=checks,
+                   audit_date=date.fromisoformat(data["audit_date"])
+                   if data.get("audit_date") else None)
 
 
 DEFAULT_PROFILE = Profile()
+
+
+def parse_audit_date(value: object, where: str) -> date:
+    """An audit date from a TOML date or "YYYY-MM-DD" text; ProfileError naming `where`."""
+    if isinstance(value, date):
+        return value
+    try:
+        return date.fromisoformat(str(value))
+    except ValueError:
+        raise ProfileError(f"{where}: expected a date as YYYY-MM-DD, got {value!r}") from None
 
 
 def parse_profile(data: dict[str, Any], path: str = "<profile>") -> Profile:
@@ -106,8 +122,10 @@ def parse_profile(data: dict[str, Any], path: str = "<profile>") -> Profile:
     if not isinstance(head, dict):
         raise fail("profile", "expected a table")
     for k in head:
-        if k not in ("name", "description"):
-            raise fail(f"profile.{k}", "unknown key (allowed: name, description)")
+        if k not in ("name", "description", "audit_date"):
+            raise fail(f"profile.{k}", "unknown key (allowed: name, description, audit_date)")
+    audit_date = parse_audit_date(head["audit_date"], f"{path}: profile.audit_date") \
+        if "audit_date" in head else None
     known = {c.id: c for c in all_checks()}
     settings: dict[str, CheckSettings] = {}
     raw_checks = data.get("checks", {})
@@ -151,6 +169,7 @@ def parse_profile(data: dict[str, Any], path: str = "<profile>") -> Profile:
         description=str(head.get("description", "")),
         path=path,
         checks=settings,
+        audit_date=audit_date,
     )
 
 

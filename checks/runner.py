@@ -6,6 +6,7 @@ from __future__ import annotations
 import dataclasses
 from collections.abc import Iterable
 from dataclasses import dataclass, field
+from datetime import date
 
 from checks.model import CheckRun, Finding, Outcome, Severity
 from checks.profile import DEFAULT_PROFILE, Profile
@@ -33,8 +34,13 @@ class CheckResults:
         return sum(1 for f in self.findings if f.severity is severity and not f.preview)
 
 
-def run_checks(cert: Certificate, profile: Profile | None = None) -> CheckResults:
+def run_checks(
+    cert: Certificate, profile: Profile | None = None, *, audit_date: date | None = None
+) -> CheckResults:
+    """Every check of the catalogue on one certificate. `audit_date` is the date the audit
+    speaks for (certificate age, dates in the future); None means the profile's, else today."""
     profile = profile or DEFAULT_PROFILE
+    audit_date = audit_date or profile.audit_date
     results = CheckResults(profile)
     for cls in all_checks():
         if cls.scope == "corpus":
@@ -45,6 +51,7 @@ def run_checks(cert: Certificate, profile: Profile | None = None) -> CheckResult
         if not settings.enabled:
             results.runs.append(CheckRun(cls.id, cls.title, Outcome.TURNED_OFF, 0, 0, options))
             continue
+        check.audit_date = audit_date
         applied, found = check.run(cert)
         if found:
             outcome = Outcome.FOUND
@@ -52,7 +59,10 @@ def run_checks(cert: Certificate, profile: Profile | None = None) -> CheckResult
             outcome = Outcome.RAISED_NOTHING
         else:
             outcome = Outcome.DID_NOT_APPLY
-        results.runs.append(CheckRun(cls.id, cls.title, outcome, applied, len(found), options))
+        reason = check.not_applicable_reason if outcome is Outcome.DID_NOT_APPLY else None
+        results.runs.append(
+            CheckRun(cls.id, cls.title, outcome, applied, len(found), options, reason)
+        )
         results.findings.extend(found)
     results.findings.sort(
         key=lambda f: (-f.severity, f.board or "", _ref_key(f.circuit), f.check_id)

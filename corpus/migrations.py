@@ -246,6 +246,20 @@ _V6 = """
 ALTER TABLE certificates ADD COLUMN drafted_layout TEXT  -- JSON: DraftedLayoutNote.to_dict()
 """
 
+# the certificate as a whole: dates of issue, edition, premises, age, signatures, observation
+# counts, supply and bonding sizes (extractor/fields.py, added with the whole-certificate checks)
+CERTIFICATE_FIELDS_V7 = (
+    "issue_date", "bs7671_edition", "premises_type", "installation_age",
+    "instrument_calibration", "designer_signature", "constructor_signature",
+    "inspector_signature", "observations", "c1_count", "c2_count", "c3_count", "fi_count",
+    "supply_csa", "main_earthing_csa", "main_bonding_csa", "electrode_ra", "spd_fitted",
+)
+_V7 = "\n".join(
+    f"ALTER TABLE certificates ADD COLUMN {f}_{suffix} {kind};"
+    for f in CERTIFICATE_FIELDS_V7
+    for suffix, kind in (("raw", "TEXT"), ("kind", "TEXT"), ("num", "REAL"))
+) + "\nALTER TABLE check_runs ADD COLUMN reason TEXT;  -- why a check did not apply, or NULL"
+
 MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (1, "files, certificates, boards, circuits, findings, similarity index", _V1),
     (2, "certificates: rule profile used (profile_name, profile JSON)", _V2),
@@ -253,6 +267,7 @@ MIGRATIONS: tuple[tuple[int, str, str], ...] = (
     (4, "boards: board RCD IΔn and the ways it protects (split-load boards)", _V4),
     (5, "one findings table (stage, severity slugs, related hashes); verdict keys", _V5),
     (6, "certificates: the drafted-layout note of a certificate read with a drafted layout", _V6),
+    (7, "certificates: whole-certificate fields; check_runs.reason", _V7),
 )
 
 LATEST = MIGRATIONS[-1][0]

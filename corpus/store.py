@@ -495,9 +495,9 @@ class Corpus:
     def _insert_findings(self, cert_id: int, results: CheckResults) -> None:
         self._write_findings(STAGE_CERTIFICATE, ((cert_id, f, ()) for f in results.findings))
         self.conn.executemany(
-            "INSERT OR REPLACE INTO check_runs VALUES (?,?,?,?,?,?,?)",
+            "INSERT OR REPLACE INTO check_runs VALUES (?,?,?,?,?,?,?,?)",
             [(cert_id, r.check_id, r.title, r.outcome.value, r.applied_to, r.findings,
-              json.dumps(r.options, default=str)) for r in results.runs],
+              json.dumps(r.options, default=str), r.reason) for r in results.runs],
         )
 
     # --- reading ----------------------------------------------------------------------------
@@ -612,9 +612,9 @@ class Corpus:
         """The stored check runs of one certificate, in the order they ran."""
         with self._guard("read"):
             rows = self.conn.execute(
-                "SELECT check_id, title, outcome, applied_to, findings, options FROM check_runs "
-                "WHERE cert_id = ?", (cert_id,)).fetchall()
-        runs = {r[0]: CheckRun(r[0], r[1], Outcome(r[2]), r[3], r[4], json.loads(r[5]))
+                "SELECT check_id, title, outcome, applied_to, findings, options, reason "
+                "FROM check_runs WHERE cert_id = ?", (cert_id,)).fetchall()
+        runs = {r[0]: CheckRun(r[0], r[1], Outcome(r[2]), r[3], r[4], json.loads(r[5]), r[6])
                 for r in rows}
         from checks.registry import all_checks
 

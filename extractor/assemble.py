@@ -708,6 +708,10 @@ def assemble(
                 else:
                     cert.cells[spec.field] = b.cell(spec.field, value, box, None, None)
                     break
+        if layout.circuit is not None:
+            if sched.page_selected(page.number, page_count):
+                _circuit_page(page.number, lines_all, layout, b)
+            continue
         selected = sched.page_selected(page.number, page_count)
         if selected and not page.words:  # before page_pattern: an empty page matches none
             b.page_problem(page, "has no text layer: not read")
@@ -742,6 +746,41 @@ def _holds_schedule(page: PageContent, layout: Layout, cert: Certificate) -> boo
     scratch = Certificate(cert.source, cert.sha256, cert.layout, cert.engine, cert.page_count)
     _schedule_page(page, layout, _Builder(layout, scratch))
     return any(bd.circuits for bd in scratch.boards)
+
+
+def _circuit_page(number: int, lines: Sequence[Line], layout: Layout, b: _Builder) -> None:
+    """A one-circuit form (minor works): its board and circuit values found by label patterns
+    on the page's lines; the first page that shows a value wins."""
+    spec = layout.circuit
+    assert spec is not None
+    ref = spec.board
+    if spec.board_pattern is not None:
+        for ln in lines:
+            if m := spec.board_pattern.search(ln.text):
+                ref = " ".join(m.group("value").split())
+                break
+    board = b.boards.get(ref) or b.board(ref, number)
+    for label in layout.board.fields:
+        if label.field not in board.cells:
+            for value, ws in _label_matches(label, lines):
+                board.cells[label.field] = b.cell(label.field, value, union_box(number, ws),
+                                                  board.ref, None)
+                break
+    found: dict[str, Cell] = {}
+    for label in spec.fields:
+        for value, ws in _label_matches(label, lines):
+            found[label.field] = b.cell(label.field, value, union_box(number, ws), board.ref,
+                                        None)
+            break
+    if not found:
+        return
+    if not board.circuits:
+        board.circuits.append(Circuit(board=board.ref, ref="1", page=number))
+    circuit = board.circuits[0]
+    for name, cell in found.items():
+        circuit.cells.setdefault(name, cell)
+    if "circuit_ref" in circuit.cells:
+        circuit.ref = circuit.cells["circuit_ref"].value.raw.strip() or circuit.ref
 
 
 @functools.lru_cache(maxsize=32)

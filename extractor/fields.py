@@ -105,6 +105,27 @@ CERTIFICATE_FIELDS: tuple[FieldSpec, ...] = (
     FieldSpec("overall_outcome", "Overall assessment", T, None, "certificate"),
     FieldSpec("observation_codes", "Observation codes", T, None, "certificate"),
     FieldSpec("limitations", "Agreed limitations", T, None, "certificate"),
+    # the certificate as a whole (report type, dates, edition, premises, supply and bonding)
+    FieldSpec("issue_date", "Date of issue", T, None, "certificate"),
+    FieldSpec("bs7671_edition", "BS 7671 edition claimed", T, None, "certificate"),
+    FieldSpec("premises_type", "Premises (use)", T, None, "certificate"),
+    FieldSpec("installation_age", "Estimated age of the installation", T, None, "certificate"),
+    FieldSpec("instrument_calibration", "Instrument calibration date", T, None, "certificate"),
+    FieldSpec("designer_signature", "Signed for design", T, None, "certificate"),
+    FieldSpec("constructor_signature", "Signed for construction", T, None, "certificate"),
+    FieldSpec("inspector_signature", "Signed for inspection and testing", T, None,
+              "certificate"),
+    FieldSpec("observations", "Observations (numbered text)", T, None, "certificate"),
+    FieldSpec("c1_count", "Number of C1 observations", N, None, "certificate"),
+    FieldSpec("c2_count", "Number of C2 observations", N, None, "certificate"),
+    FieldSpec("c3_count", "Number of C3 observations", N, None, "certificate"),
+    FieldSpec("fi_count", "Number of FI observations", N, None, "certificate"),
+    FieldSpec("supply_csa", "Supply (meter tails) conductor csa", N, "mm²", "certificate"),
+    FieldSpec("main_earthing_csa", "Main earthing conductor csa", N, "mm²", "certificate"),
+    FieldSpec("main_bonding_csa", "Main protective bonding conductor csa", N, "mm²",
+              "certificate"),
+    FieldSpec("electrode_ra", "Earth electrode resistance RA", N, "Ω", "certificate"),
+    FieldSpec("spd_fitted", "Surge protective device", T, None, "certificate"),
 )
 
 FIELDS: dict[str, FieldSpec] = {f.name: f for f in CIRCUIT_FIELDS}

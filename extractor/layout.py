@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 import re
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -88,6 +89,16 @@ class BoardSpec:
 
 
 @dataclass(frozen=True)
+class CircuitSpec:
+    """A form that records one circuit as label/value boxes rather than a table (a minor
+    works certificate): each field by a label pattern, on one board."""
+
+    fields: tuple[LabelSpec, ...]  # circuit fields, e.g. zs = "Zs \\(Ω\\): (?P<value>\\S+)"
+    board: str = "1"  # the board reference when the form prints none
+    board_pattern: re.Pattern[str] | None = None  # or a label pattern reading it
+
+
+@dataclass(frozen=True)
 class Layout:
     path: str
     name: str
@@ -98,6 +109,7 @@ class Layout:
     board: BoardSpec
     certificate: tuple[LabelSpec, ...]
     columns: tuple[ColumnSpec, ...]
+    circuit: CircuitSpec | None = None  # set for a one-circuit form read by labels
 
     def column_fields(self) -> list[str]:
         return [f for c in self.columns for f in c.fields]
@@ -249,8 +261,11 @@ def _columns(ctx: _Ctx, data: Any) -> tuple[ColumnSpec, ...]:
 
 def parse_layout(data: dict[str, Any], path: str = "<layout>") -> Layout:
     ctx = _Ctx(path)
-    top = ctx.table(data, "", {"form", "recognise", "schedule", "board", "certificate", "columns"})
-    for required in ("form", "recognise", "board", "columns"):
+    top = ctx.table(data, "", {"form", "recognise", "schedule", "board", "certificate", "columns",
+                               "circuit"})
+    single = _circuit(ctx, top["circuit"]) if "circuit" in top else None
+    for required in ("form", "recognise") if single else ("form", "recognise", "board",
+                                                          "columns"):
         if required not in top:
             raise ctx.fail(required, "missing section")
     form = ctx.table(top["form"], "form", {"name", "description", "engine"})
@@ -315,7 +330,10 @@ def parse_layout(data: dict[str, Any], path: str = "<layout>") -> Layout:
     if sched.line_tolerance <= 0:
         raise ctx.fail("schedule.line_tolerance", "must be above 0")
 
-    board_raw = ctx.table(top["board"], "board", {"start", "fields", "circuit_count"})
+    board_raw = ctx.table(top.get("board", {"start": "(?P<value>(?!x)x)"}), "board",
+                          {"start", "fields", "circuit_count"})
+    if single and "start" not in board_raw:
+        board_raw = dict(board_raw, start="(?P<value>(?!x)x)")  # one board, never started
     if "start" not in board_raw:
         raise ctx.fail(
             "board.start", "missing: a pattern with (?P<value>…) for the board reference"
@@ -329,8 +347,8 @@ def parse_layout(data: dict[str, Any], path: str = "<layout>") -> Layout:
     )
     cert_raw = ctx.table(top.get("certificate", {}), "certificate", {"fields"})
     cert = _labels(ctx, cert_raw.get("fields", {}), "certificate.fields", CERTIFICATE)
-    columns = _columns(ctx, top["columns"])
-    if row_key not in [f for c in columns for f in c.fields]:
+    columns = _columns(ctx, top["columns"]) if "columns" in top or not single else ()
+    if not single and row_key not in [f for c in columns for f in c.fields]:
         raise ctx.fail("schedule.row_key", f"no column reads the row key field {row_key!r}")
     return Layout(
         path=path,
@@ -342,6 +360,20 @@ def parse_layout(data: dict[str, Any], path: str = "<layout>") -> Layout:
         board=board,
         certificate=cert,
         columns=columns,
+        circuit=single,
+    )
+
+
+def _circuit(ctx: _Ctx, data: Any) -> CircuitSpec:
+    raw = ctx.table(data, "circuit", {"fields", "board", "board_pattern"})
+    fields = _labels(ctx, raw.get("fields", {}), "circuit.fields", FIELDS)
+    if not fields:
+        raise ctx.fail("circuit.fields", "give at least one circuit field's label pattern")
+    return CircuitSpec(
+        fields=fields,
+        board=ctx.string(raw.get("board", "1"), "circuit.board"),
+        board_pattern=ctx.regex(raw["board_pattern"], "circuit.board_pattern", need_value=True)
+        if "board_pattern" in raw else None,
     )
 
 
@@ -363,10 +395,13 @@ def load_layout(path: str | Path) -> Layout:
     return parse_layout(data, str(p))
 
 
-def load_layouts(paths: list[Path]) -> list[Layout]:
-    """Load every *.toml under the given files/folders, sorted by path."""
+def load_layouts(paths: str | Path | Iterable[str | Path]) -> list[Layout]:
+    """Load every *.toml under the given files/folders (one path or several, str or Path),
+    sorted by path: ``load_layouts("layouts/")``."""
+    if isinstance(paths, (str, Path)):
+        paths = [paths]
     files: list[Path] = []
-    for p in paths:
+    for p in map(Path, paths):
         found = sorted(p.rglob("*.toml")) if p.is_dir() else [p]
         if not found:
             raise LayoutError(f"{p}: no layout files (*.toml) in this folder")

@@ -29,6 +29,8 @@ Format history:
   was drafted on the fly because no layout recognised the form (``sample``: the PDF it was
   drafted from, ``confidence``, ``trusted_at``: the trusted threshold, ``trusted``,
   ``saved_to``: the drafted layout file, or null). Versions 1 to 4 are still read.
+* 6 — each ``check_runs`` entry adds ``reason``: why the check did not apply, when it
+  says (null otherwise). Versions 1 to 5 are still read.
 
 ``certificate_from_json`` rebuilds the ``Certificate`` from a document, so checks can be
 re-run on a saved report without the PDF.
@@ -59,8 +61,8 @@ from extractor.records import (
 from reports.model import CAUTIONS, RelatedFinding
 from reports.verdict import decide
 
-FORMAT_VERSION = 5
-READABLE_VERSIONS = (1, 2, 3, 4, 5)
+FORMAT_VERSION = 6
+READABLE_VERSIONS = (1, 2, 3, 4, 5, 6)
 
 
 def _box(box: Box | None) -> dict[str, Any] | None:
@@ -134,6 +136,7 @@ def report_dict(
                 "applied_to": r.applied_to,
                 "findings": r.findings,
                 "options": r.options,
+                "reason": r.reason,
             }
             for r in results.runs
         ],

@@ -65,7 +65,8 @@ def severity_css() -> str:
 # Certificate-level details shown in the header, in order.
 HEADER_FIELDS: tuple[str, ...] = (
     "cert_number", "report_type", "address", "client", "contractor", "inspector",
-    "inspection_date", "next_inspection", "instrument_serial", "earthing", "ze", "ipf",
+    "inspection_date", "issue_date", "next_inspection", "bs7671_edition", "premises_type",
+    "installation_age", "instrument_serial", "earthing", "ze", "ipf",
     "overall_outcome", "observation_codes", "limitations",
 )
 
@@ -200,6 +201,7 @@ class CheckRunView:
     severity: str  # severity label in effect
     options: list[OptionView]
     overridden: bool  # the profile changed something for this check
+    reason: str = ""  # why it did not apply, when the check says
 
 
 @dataclass(frozen=True)
@@ -285,6 +287,10 @@ def _field_label(f: Finding) -> str:
         if f.field in table:
             return table[f.field].label
     return f.field
+
+
+location_text = _location  # "Board DB1, circuit 4": public for the reader outputs
+field_label = _field_label
 
 
 def _check_title(check_id: str, runs: dict[str, CheckRun]) -> str:
@@ -465,6 +471,7 @@ def _runs(results: CheckResults, profile: Profile) -> list[CheckRunView]:
                 severity=sev.label if sev is not None else "",
                 options=[OptionView(k, _option_text(v)) for k, v in run.options.items()],
                 overridden=run.check_id in profile.checks,
+                reason=run.reason or "",
             )
         )
     return views

@@ -76,6 +76,7 @@ class Case:
     problems: list[dict[str, Any]] = field(default_factory=list)  # extraction problems
     # where the findings must be: [{ circuit = "2", field = "zs" }, …] (board optional)
     at: list[dict[str, str]] | None = None
+    audit_date: str | None = None  # YYYY-MM-DD: the date the audit speaks for (date checks)
 
     def build(self) -> Certificate:
         return make_certificate(self.circuits, self.board, self.certificate, self.boards,
@@ -88,7 +89,8 @@ def load_cases() -> list[Case]:
         data = tomllib.loads(path.read_text(encoding="utf-8"))
         for raw in data.get("case", []):
             unknown = set(raw) - {"name", "expect", "source", "circuits", "board", "boards",
-                                  "certificate", "options", "severity", "problems", "at"}
+                                  "certificate", "options", "severity", "problems", "at",
+                                  "audit_date"}
             if unknown:
                 raise ValueError(f"{path}: case {raw.get('name')!r}: unknown keys {unknown}")
             cases.append(Case(check_id=path.stem, **raw))

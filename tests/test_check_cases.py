@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from datetime import date
+
 import pytest
 from casekit import Case, load_cases
 
@@ -15,6 +17,7 @@ CASES = load_cases()
 def test_case(case: Case) -> None:
     cls = get_check(case.check_id)
     check = cls(cls.Options(**case.options))
+    check.audit_date = date.fromisoformat(case.audit_date) if case.audit_date else None
     _, findings = check.run(case.build())
     assert len(findings) == case.expect, (
         f"{case.check_id}::{case.name} (source: {case.source}) expected {case.expect} "

@@ -25,7 +25,7 @@ def test_clean_certificate_exits_0(tmp_path: Path) -> None:
     assert "NO CONCERNS FOUND" in res.output
     assert (tmp_path / "grid-clean-01.html").exists()
     data = json.loads((tmp_path / "grid-clean-01.json").read_text())
-    assert data["format_version"] == 5
+    assert data["format_version"] == 6
 
 
 def test_breach_exits_1(tmp_path: Path) -> None:
@@ -98,7 +98,11 @@ def test_real_process_smoke(tmp_path: Path) -> None:
     n = len(list(DEMO.glob("*.pdf")))
     assert f"{n} file(s): {n} audited, 0 skipped, 0 not audited" in out.stdout
     assert "schedule-copied-from-other-address" in out.stdout
-    assert len(list((tmp_path / "certificates").glob("*.html"))) == n
+    reports = [p for p in (tmp_path / "certificates").glob("*.html")
+               if not p.name.endswith((".summary.html", ".queries.html"))]
+    assert len(reports) == n
+    assert len(list((tmp_path / "certificates").glob("*.summary.html"))) == n  # landlord's
+    assert len(list((tmp_path / "certificates").glob("*.queries.html"))) == n  # contractor's
     assert (tmp_path / "portfolio.html").exists()
     again = subprocess.run([str(exe), "demo", "--out", str(tmp_path)], capture_output=True,
                            text=True, env=env, timeout=600)

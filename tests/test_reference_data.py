@@ -239,6 +239,7 @@ def test_temperature_factors() -> None:
 @pytest.mark.parametrize("name", [
     "conductor_resistance", "max_zs_breakers", "max_zs_fuses", "disconnection_times",
     "declared_ze", "temperature_factors", "rcd_ra_limits", "loop_resolution",
+    "bs7671_editions", "inspection_intervals", "pme_bonding_table_54_8",
 ])
 def test_every_table_names_its_source_and_units(name: str) -> None:
     t = tables.load(name)

@@ -305,7 +305,7 @@ def test_json_round_trips(tmp_path: Path) -> None:
     path = write_json(cert, res, tmp_path / "r.json", certvet_version="9.9.9",
                       generated_at="fixed")
     data = json.loads(path.read_text(encoding="utf-8"))
-    assert data["format_version"] == FORMAT_VERSION == 5
+    assert data["format_version"] == FORMAT_VERSION == 6
     assert data["cautions"] == list(CAUTIONS)
     for r in data["check_runs"]:
         assert r["outcome_label"] == Outcome(r["outcome"]).describe(r["findings"])

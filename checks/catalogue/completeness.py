@@ -8,6 +8,7 @@ from dataclasses import dataclass
 
 from checks.base import CertificateCheck, CircuitCheck, option
 from checks.catalogue.rcd import has_rcd
+from checks.certificate_facts import observation_codes  # one parser, shared
 from checks.model import Finding, Severity
 from checks.registry import register
 from checks.tables import EARTHING_CHOICES
@@ -352,21 +353,6 @@ class CertificateDetailsMissing(CertificateCheck):
                     )
                 )
         return found
-
-
-_CODE_RE = re.compile(
-    r"\b(C1|C2|C3|FI)\b(?:\s*(?:[:=x×\-–—]|\bX\b)?\s*(\d+|NIL|NONE|NO)\b)?")
-
-
-def observation_codes(text: str) -> dict[str, int]:
-    """Codes and counts from text like "C2, C3", "C1: 0 C2: 2 C3: 1", "C2 x2, FI" or a
-    summary "C1 - 0, C2 - 0, C3 - 2" (a count after a dash is a count, not a code listed)."""
-    counts: dict[str, int] = {}
-    for m in _CODE_RE.finditer(text.upper()):
-        got = m.group(2)
-        n = (int(got) if got.isdigit() else 0) if got is not None else 1
-        counts[m.group(1)] = counts.get(m.group(1), 0) + n
-    return counts
 
 
 @register

@@ -686,8 +686,9 @@ class TtRcdRaLimit(CircuitCheck):
 
     What it checks:
     In a TT system, on a circuit with an RCD IΔn recorded, that RA × IΔn ≤ 50 V, where RA is
-    taken as the board's Ze (falling back to the certificate's) — an upper estimate of the
-    electrode plus protective conductor resistance.
+    the electrode resistance where the form records it, else the board's Ze (falling back
+    to the certificate's) — an upper estimate of the electrode plus protective conductor
+    resistance.
 
     Why it matters:
     In a TT system the RCD gives fault protection; if RA is too high, a fault can hold
@@ -730,6 +731,8 @@ class TtRcdRaLimit(CircuitCheck):
             return None
         idn = circuit.number("rcd_idn")
         ra, where = board_ze(cert, board)
+        if cert.number("electrode_ra") is not None:  # RA measured: used in place of Ze
+            ra, where = cert.number("electrode_ra"), "electrode's measured"
         if idn is None or idn <= 0 or ra is None:
             return None
         volts = ra * idn / 1000

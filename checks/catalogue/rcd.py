@@ -5,8 +5,10 @@ from __future__ import annotations
 import re
 from collections.abc import Iterable
 from dataclasses import dataclass
+from datetime import date
 
 from checks.base import CircuitCheck, fmt, option
+from checks.certificate_facts import Applies, observation_note, requirement_applies
 from checks.devices import (
     RcdProtection,
     is_ring,
@@ -84,9 +86,9 @@ class RcdMissingForSockets(CircuitCheck):
     An RCD upstream (an RCD main switch or a split-load RCD) recorded on its own row rather
     than on each circuit row or in the board's RCD fields (board_rcd_idn, board_rcd_ways,
     which are read); a documented risk assessment for sockets in
-    a non-domestic installation (allowed by the exception to Reg 411.3.3); installations
-    built to an earlier edition, where a periodic report records this as an observation
-    rather than a failure.
+    a non-domestic installation (allowed by the exception to Reg 411.3.3). On an EICR of an
+    installation built before the 2008 edition (its estimated age says so) the finding is a
+    query: an observation to raise, not a failed report.
 
     Failing example:
     "Kitchen sockets", BS EN 60898 B32, RCD IΔn "N/A".
@@ -97,6 +99,8 @@ class RcdMissingForSockets(CircuitCheck):
     Options:
     max_rating_a: socket circuits rated up to this need RCD protection (A).
     max_idn_ma: largest IΔn that counts as additional protection (mA).
+    since: on an EICR of an installation built before this date (from its estimated age),
+    the finding is an observation to raise (query), not a breach.
 
     Reference:
     BS 7671:2018+A2:2022 Reg 411.3.3 (additional protection by RCD for socket-outlets
@@ -122,10 +126,23 @@ class RcdMissingForSockets(CircuitCheck):
             "BS 7671:2018+A2:2022 Reg 415.1.1: IΔn not exceeding 30 mA",
             "largest RCD IΔn (mA) that counts as additional protection",
         )
+        since: str = option(
+            "2008-07-01",
+            "from memory: BS 7671:2008 (RCDs for all sockets up to 32 A) in force 1 July 2008",
+            "an EICR of an installation built before this date (YYYY-MM-DD) raises an "
+            "observation (query), not a breach",
+        )
+
+    def _older(self, cert: Certificate) -> bool:
+        """An EICR of an installation built before the requirement (report-type aware)."""
+        since = date.fromisoformat(self.options.since)
+        return requirement_applies(cert, since) is Applies.OBSERVATION
 
     def severity_for(self, cert: Certificate, board: Board, circuit: Circuit) -> Severity:
-        """The severity of a finding on this circuit: the hook for report-type awareness
-        (an older installation on a periodic report). Here: the configured severity."""
+        """The severity of a finding on this circuit: on an EICR of an older installation an
+        observation (query), else the configured severity."""
+        if self._older(cert):
+            return min(self.effective_severity, Severity.QUERY)
         return self.effective_severity
 
     def check_circuit(
@@ -137,6 +154,9 @@ class RcdMissingForSockets(CircuitCheck):
             return None
         if not message:
             return []
+        if self._older(cert):
+            since = date.fromisoformat(self.options.since)
+            message = f"{message.rstrip('.')}; {observation_note(since)}."
         return [
             self.make(
                 cert,
