@@ -29,6 +29,7 @@ if TYPE_CHECKING:  # reports.verdict is imported lazily, in AuditResult.verdict
     import pandas as pd
 
     from certvet.drafting import DraftedForms, DraftOptions
+    from certvet.workers import Limits
     from reports.verdict import Verdict
 
 __all__ = [
@@ -276,12 +277,19 @@ def audit_many(
     password: str | None = None,
     on_done: Callable[[Path, AuditResult | None, str | None], None] | None = None,
     drafting: DraftOptions | None = None,
+    limits: Limits | None = None,
 ) -> BatchSummary:
     """Audit each file in turn; a bad file is recorded as failed with its reason, never fatal.
-    Files of one unknown form share the layout drafted from the first of them."""
+    Files of one unknown form share the layout drafted from the first of them.
+
+    With `limits`, each file is audited in its own child process with that time and memory
+    limit (certvet.workers, as `certvet batch` does), still one at a time and in order; a
+    layout a child drafts is not passed back, so each file of an unknown form is drafted on
+    its own."""
     summary = BatchSummary()
     drafts = new_drafts(drafting, out_dir, layouts)
     used: set[str] = set()  # equal file names in different folders: cert.*, cert-2.*…
+    stems: list[tuple[Path, str]] = []
     for pdf in pdfs:
         stem = name = Path(pdf).stem
         n = 1
@@ -289,24 +297,40 @@ def audit_many(
             n += 1
             stem = f"{name}-{n}"
         used.add(stem.lower())
+        stems.append((Path(pdf), stem))
+
+    def one(pdf: Path, stem: str) -> AuditResult:
+        return audit_file(pdf, layouts=layouts, layout=layout, profile=profile,
+                          out_dir=out_dir, engine=engine, password=password, stem=stem,
+                          drafts=drafts)
+
+    def record(pdf: Path, res: AuditResult | None, reason: str | None) -> None:
+        if res is None:
+            summary.failed.append(Failure(pdf, reason or f"{pdf}: not audited"))
+        else:
+            summary.audited.append(res)
+        if on_done:
+            on_done(pdf, res, reason)
+
+    if limits is not None:
+        from certvet.workers import run_isolated
+
+        by_path = dict(stems)
+        # one child at a time: outcomes come in the order of the inputs
+        for o in run_isolated(list(by_path), lambda p: one(p, by_path[p]), workers=1,
+                              limits=limits):
+            record(o.path, o.result, o.error)
+        return summary
+    for pdf, stem in stems:
         try:
-            res = audit_file(pdf, layouts=layouts, layout=layout, profile=profile,
-                             out_dir=out_dir, engine=engine, password=password, stem=stem,
-                             drafts=drafts)
+            res = one(pdf, stem)
         except InputError as exc:
-            summary.failed.append(Failure(Path(pdf), str(exc)))
-            if on_done:
-                on_done(Path(pdf), None, str(exc))
+            record(pdf, None, str(exc))
             continue
         except Exception as exc:  # a bug must not lose the rest of the batch
-            reason = f"{pdf}: internal error while auditing ({type(exc).__name__}: {exc})"
-            summary.failed.append(Failure(Path(pdf), reason))
-            if on_done:
-                on_done(Path(pdf), None, reason)
+            record(pdf, None, f"{pdf}: internal error while auditing ({type(exc).__name__}: {exc})")
             continue
-        summary.audited.append(res)
-        if on_done:
-            on_done(Path(pdf), res, None)
+        record(pdf, res, None)
     return summary
 
 

@@ -66,6 +66,7 @@ _readable_metavars()
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from certvet.api import AuditResult
     from certvet.drafting import DraftOptions
+    from certvet.workers import Limits
     from checks.profile import Profile
     from extractor.layout import Layout
 
@@ -147,6 +148,7 @@ def _run_batch(
     drafting: DraftOptions | None = None,
     verbose: bool = False,
     as_json: bool = False,
+    limits: Limits | None = None,
 ) -> int:
     from certvet.api import audit_many
     from reports.verdict import NOT_AUDITED
@@ -197,6 +199,7 @@ def _run_batch(
                 password=password,
                 on_done=step,
                 drafting=drafting,
+                limits=limits,
             )
         for ln in lines:
             typer.echo(ln)
@@ -210,6 +213,7 @@ def _run_batch(
             password=password,
             on_done=done,
             drafting=drafting,
+            limits=limits,
         )
     breach = any(f.severity in fail_on and not f.preview
                  for r in summary.audited for f in r.results.findings)
@@ -290,13 +294,21 @@ def audit(
                           help="Severities that make the exit status 1, comma-separated "
                                "(note, query, breach, impossible).")
     ] = DEFAULT_FAIL_ON,
+    timeout: Annotated[
+        float, typer.Option("--timeout", min=1.0, help="Seconds allowed per file.")
+    ] = 120.0,
+    memory_mb: Annotated[
+        int, typer.Option("--memory-mb", min=0, help="Resident memory per file in MB (0 = none).")
+    ] = 2048,
     draft_unknown: draft_opts.DraftUnknown = True,
     min_draft_confidence: draft_opts.MinConfidence = draft_opts.READ_AT,
     trusted_draft_confidence: draft_opts.TrustedConfidence = draft_opts.TRUSTED_AT,
     audit_date: AuditDateOption = None,
 ) -> None:
-    """Audit certificates: extract the schedule, run every check, write HTML/JSON/CSV reports."""
+    """Audit certificates: extract the schedule, run every check, write HTML/JSON/CSV reports.
+    Each file is audited in its own process with the time and memory limits of `batch`."""
     from certvet.api import expand_inputs
+    from certvet.workers import Limits
 
     try:
         severities = parse_fail_on(fail_on)
@@ -309,10 +321,12 @@ def audit(
         _err(f"{', '.join(str(p) for p in pdfs)}: no PDF files found")
         raise typer.Exit(EXIT_FAILED)
     _make_out_dir(out)
+    limits = Limits(seconds=timeout, memory_mb=memory_mb)
     options = draft_opts.draft_options(draft_unknown, min_draft_confidence,
                                        trusted_draft_confidence)
     code = _run_batch(files, layouts, prof, out, engine.value if engine else None, password, quiet,
-                      severities, options, verbose=verbose, as_json=as_json)
+                      severities, options, verbose=verbose, as_json=as_json,
+                      limits=limits)
     raise typer.Exit(code)
 
 

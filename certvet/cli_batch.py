@@ -52,7 +52,7 @@ def batch(
     timeout: Annotated[float, typer.Option("--timeout", min=1.0,
                                            help="Seconds allowed per file.")] = 120.0,
     memory_mb: Annotated[int, typer.Option("--memory-mb", min=0,
-                                           help="Memory limit per file in MB (0 = none).")] = 2048,
+                                           help="Resident memory per file, MB (0: none).")] = 2048,
     retry_failed: Annotated[bool, typer.Option("--retry-failed",
                                                help="Re-run files that failed before.")] = False,
     scheduler: Annotated[

@@ -34,9 +34,16 @@ class NoOptions:
     pass
 
 
-def option(default: Any, source: str, help: str) -> Any:
-    """An option field with its default's source and a one-line help."""
-    return dataclasses.field(default=default, metadata={"source": source, "help": help})
+def option(default: Any, source: str, help: str, *, above: float | None = None,
+           below: float | None = None, names: str | None = None) -> Any:
+    """An option field with its default's source and a one-line help.
+
+    What a profile may set it to (checked by checks.profile before any file is read): a number
+    is never negative, and stays strictly above `above` / below `below` when given (a voltage
+    or a time that is divided by must be above 0); `names` ("circuit" or "certificate") makes a
+    text option a comma-separated list of canonical field names of that level."""
+    meta = {"source": source, "help": help, "above": above, "below": below, "names": names}
+    return dataclasses.field(default=default, metadata=meta)
 
 
 def fmt(x: float | None, unit: str = "", places: int = 2) -> str:

@@ -14,13 +14,17 @@ A profile is a TOML file::
     severity = "breach"
     tolerance_ohm = 0.05
 
-Every key is validated against the check's declared options; errors name the file and key.
+Every key is validated against the check's declared options before any file is read: its
+type, that a number is finite and not negative and within the option's declared bounds
+(`option(above=..., below=...)`: U0 = 0 V is refused), that a field list names known fields,
+and that no `min_…` option exceeds its `max_…`; errors name the file and key. The file's size
+and nesting are limited (extractor/tomlfile.py).
 """
 
 from __future__ import annotations
 
 import dataclasses
-import tomllib
+import math
 from dataclasses import dataclass, field
 from datetime import date
 from pathlib import Path
@@ -29,6 +33,8 @@ from typing import Any
 from checks.base import Check
 from checks.model import Severity
 from checks.registry import all_checks
+from extractor.fields import CERTIFICATE, FIELDS
+from extractor.tomlfile import TomlProblem, parse_toml
 
 
 class ProfileError(ValueError):
@@ -149,14 +155,14 @@ def parse_profile(data: dict[str, Any], path: str = "<profile>") -> Profile:
             if k not in fields:
                 allowed = ", ".join(sorted(fields)) or "none"
                 raise fail(f"{key}.{k}", f"unknown option (options: {allowed})")
+            problem = _option_problem(fields[k], v)
+            if problem:
+                raise fail(f"{key}.{k}", problem)
             default = fields[k].default
-            if isinstance(default, bool) != isinstance(v, bool) or (
-                isinstance(default, (int, float)) and not isinstance(v, (int, float))
-            ) or (isinstance(default, str) and not isinstance(v, str)):
-                raise fail(f"{key}.{k}", f"expected a value like {default!r}, got {v!r}")
-            if isinstance(v, (int, float)) and not isinstance(v, bool) and not v >= 0:
-                raise fail(f"{key}.{k}", f"must be zero or more, got {v!r}")
             opts[k] = float(v) if isinstance(default, float) and not isinstance(v, bool) else v
+        problem = _range_problem({**_defaults(cls), **opts})
+        if problem:
+            raise fail(key, problem)
         settings[cid] = CheckSettings(enabled, sev, opts)
     return Profile(
         name=str(head.get("name", Path(path).stem)),
@@ -167,10 +173,55 @@ def parse_profile(data: dict[str, Any], path: str = "<profile>") -> Profile:
     )
 
 
+def _option_problem(f: dataclasses.Field[Any], v: Any) -> str | None:
+    """Why `v` cannot be this option's value (None when it can)."""
+    default, meta = f.default, f.metadata
+    if isinstance(default, bool) != isinstance(v, bool) or (
+        isinstance(default, (int, float)) and not isinstance(v, (int, float))
+    ) or (isinstance(default, str) and not isinstance(v, str)):
+        return f"expected a value like {default!r}, got {v!r}"
+    if isinstance(default, int) and not isinstance(default, bool) and not isinstance(v, int):
+        return f"expected a whole number, got {v!r}"
+    if isinstance(v, (int, float)) and not isinstance(v, bool):
+        if not math.isfinite(v) or v < 0:
+            return f"must be a finite number, zero or more, got {v!r}"
+        above, below = meta.get("above"), meta.get("below")
+        if above is not None and not v > above:
+            return f"must be above {above:g}, got {v!r}"
+        if below is not None and not v < below:
+            return f"must be below {below:g}, got {v!r}"
+    names = meta.get("names")
+    if names and isinstance(v, str):
+        known = FIELDS if names == "circuit" else CERTIFICATE
+        listed = [n.strip() for n in v.split(",") if n.strip()]
+        if not listed:
+            return "expected a comma-separated list of field names"
+        unknown = [n for n in listed if n not in known]
+        if unknown:
+            return f"unknown {names} field {unknown[0]!r} (see `certvet fields`)"
+    return None
+
+
+def _defaults(cls: type[Check]) -> dict[str, Any]:
+    return {f.name: f.default for f in dataclasses.fields(cls.Options)}
+
+
+def _range_problem(values: dict[str, Any]) -> str | None:
+    """A lower limit above its upper limit (`min_x` / `max_x`, `x_min_y` / `x_max_y`)."""
+    for name, lo in values.items():
+        if "min" not in name.split("_"):
+            continue
+        other = "_".join("max" if part == "min" else part for part in name.split("_"))
+        hi = values.get(other)
+        if isinstance(lo, (int, float)) and isinstance(hi, (int, float)) and lo > hi:
+            return f"{name} ({lo:g}) is above {other} ({hi:g})"
+    return None
+
+
 def load_profile(path: str | Path) -> Profile:
     p = Path(path)
     try:
-        data = tomllib.loads(p.read_text(encoding="utf-8"))
+        data = parse_toml(p.read_text(encoding="utf-8"))
     except FileNotFoundError:
         raise ProfileError(f"{p}: profile file not found") from None
     except IsADirectoryError:
@@ -178,6 +229,6 @@ def load_profile(path: str | Path) -> Profile:
     except (OSError, UnicodeDecodeError) as exc:
         why = exc.strerror if isinstance(exc, OSError) and exc.strerror else exc
         raise ProfileError(f"{p}: cannot read profile: {why}") from None
-    except tomllib.TOMLDecodeError as exc:
-        raise ProfileError(f"{p}: not valid TOML: {exc}") from None
+    except TomlProblem as exc:
+        raise ProfileError(f"{p}: {exc}") from None
     return parse_profile(data, str(p))

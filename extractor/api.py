@@ -13,6 +13,8 @@ from typing import TYPE_CHECKING
 from extractor.assemble import assemble, group_lines
 from extractor.engines.names import DEFAULT_ENGINE, ENGINE_NAMES
 from extractor.errors import InputError, NoLayoutMatches
+from extractor.integrity import damaged_streams
+from extractor.records import ExtractionProblem
 
 if TYPE_CHECKING:
     from extractor.engines.base import Engine, OpenDocument, PageContent
@@ -153,7 +155,23 @@ def _require_schedule(path: str, layout: Layout, cert: Certificate) -> Certifica
         raise NoLayoutMatches(
             path, f"layout {layout.name!r} found the schedule but no circuit rows"
         )
+    _note_damaged_streams(path, cert)
     return cert
+
+
+def _note_damaged_streams(path: str, cert: Certificate) -> None:
+    """A damaged stream may have lost part of a page without a word from the PDF library: the
+    audit cannot then be complete (extractor/integrity.py)."""
+    try:
+        with open(path, "rb") as fh:
+            damaged = damaged_streams(fh.read())
+    except OSError:
+        return
+    if damaged:
+        cert.problems.append(ExtractionProblem(
+            f"the file has {damaged} damaged stream{'s' if damaged != 1 else ''} that the PDF "
+            "reader could only partly recover: part of the schedule may not have been read"
+        ))
 
 
 def extract_recognised(

@@ -31,6 +31,7 @@ from extractor.engines.base import PageContent, Rule, Word
 from extractor.engines.words import is_unreadable
 from extractor.fields import BOARD, CERTIFICATE, FIELDS
 from extractor.layout import ColumnSpec, LabelSpec, Layout
+from extractor.patterns import compile_pattern
 from extractor.records import (
     Board,
     Box,
@@ -711,16 +712,22 @@ def assemble(
             if sched.page_selected(page.number, page_count):
                 _circuit_page(page.number, lines_all, layout, b)
             continue
-        if not sched.page_selected(page.number, page_count):
-            continue
-        if not page.words:  # checked before page_pattern: an empty page matches no pattern
+        selected = sched.page_selected(page.number, page_count)
+        if selected and not page.words:  # before page_pattern: an empty page matches none
             b.page_problem(page, "has no text layer: not read")
             continue
-        if sched.page_pattern and not sched.page_pattern.search(
-            "\n".join(ln.text for ln in lines_all)
-        ):
-            continue
-        _schedule_page(page, layout, b)
+        if selected and sched.page_pattern:
+            selected = bool(sched.page_pattern.search("\n".join(ln.text for ln in lines_all)))
+            if not selected and any(w.vertical for w in page.words):  # a page turned sideways
+                turned = "\n".join(" ".join(w.text for w in g) for g in _vertical_lines(page.words))
+                selected = bool(sched.page_pattern.search(turned))
+        if selected:
+            _schedule_page(page, layout, b)
+        elif page.words and _holds_schedule(page, layout, cert):
+            b.page_problem(
+                page, "is left out by the layout's schedule selection but holds a table with "
+                "its column headers: not read"
+            )
     for name, (values, boxes) in collected.items():
         box = boxes[0]
         cert.cells[name] = b.cell(name, ", ".join(values), box, None, None)
@@ -731,6 +738,14 @@ def assemble(
                       box=circuit.box(field_name))
     cert.problems.extend(account_boards(cert))
     return cert
+
+
+def _holds_schedule(page: PageContent, layout: Layout, cert: Certificate) -> bool:
+    """Would this page give circuit rows if it were a schedule page? (Read into a scratch
+    certificate: a page the selection leaves out must not hide rows unseen.)"""
+    scratch = Certificate(cert.source, cert.sha256, cert.layout, cert.engine, cert.page_count)
+    _schedule_page(page, layout, _Builder(layout, scratch))
+    return any(bd.circuits for bd in scratch.boards)
 
 
 def _circuit_page(number: int, lines: Sequence[Line], layout: Layout, b: _Builder) -> None:
@@ -772,7 +787,7 @@ def _circuit_page(number: int, lines: Sequence[Line], layout: Layout, b: _Builde
 def _ignoring_case(columns: tuple[ColumnSpec, ...]) -> tuple[ColumnSpec, ...]:
     """The columns with their header patterns matched regardless of letter case."""
     return tuple(
-        replace(c, header=re.compile(c.header.pattern, c.header.flags | re.IGNORECASE))
+        replace(c, header=compile_pattern(c.header.pattern, c.header.flags | re.IGNORECASE))
         if c.header is not None
         else c
         for c in columns

@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import math
 import re
-import tomllib
 from collections.abc import Iterable
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -17,6 +16,8 @@ from typing import Any
 
 from extractor.engines.names import ENGINE_NAMES
 from extractor.fields import BOARD, CERTIFICATE, FIELDS
+from extractor.patterns import UnsafePattern, compile_pattern
+from extractor.tomlfile import TomlProblem, parse_toml
 
 ENGINES = ENGINE_NAMES
 DEFAULT_ROW_KEY_PATTERN = r"^(?:[A-Z]{0,3}\d{1,3}[A-Z]?(?:[/.-]?(?:L?[123]|[A-Z]))?)$"
@@ -150,9 +151,11 @@ class _Ctx:
     def regex(self, data: Any, key: str, need_value: bool = False) -> re.Pattern[str]:
         text = self.string(data, key)
         try:
-            pat = re.compile(text)
+            pat = compile_pattern(text)
         except re.error as exc:
             raise self.fail(key, f"bad regular expression '{text}': {exc}") from None
+        except UnsafePattern as exc:
+            raise self.fail(key, f"pattern '{text}' {exc}") from None
         if need_value and "value" not in pat.groupindex:
             raise self.fail(key, f"pattern '{text}' needs a named group (?P<value>…)")
         return pat
@@ -386,9 +389,9 @@ def load_layout(path: str | Path) -> Layout:
         why = exc.strerror if isinstance(exc, OSError) and exc.strerror else exc
         raise LayoutError(f"{p}: cannot read layout: {why}") from None
     try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise LayoutError(f"{p}: not valid TOML: {exc}") from None
+        data = parse_toml(text)
+    except TomlProblem as exc:
+        raise LayoutError(f"{p}: {exc}") from None
     return parse_layout(data, str(p))
 
 

@@ -6,7 +6,7 @@ colour class, which wording) is made here or in ``reports.verdict``.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 from checks.model import CheckRun, Finding, Outcome, Severity
@@ -133,7 +133,8 @@ class FindingView:
 class FindingGroup:
     slug: str
     label: str
-    findings: list[FindingView]
+    findings: list[FindingView]  # the first SHOWN_FINDINGS_PER_GROUP of the group
+    hidden: int = 0  # findings of the group not listed in the HTML (all are in JSON and CSV)
 
 
 @dataclass(frozen=True)
@@ -180,6 +181,7 @@ class BoardView:
     details: list[Detail]
     columns: list[ColumnView]
     rows: list[RowView]
+    hidden: int = 0  # circuits without findings left out of a long schedule (SHOWN_ROWS)
 
 
 @dataclass(frozen=True)
@@ -248,6 +250,7 @@ class ReportView:
     extra: dict[str, Any] = field(default_factory=dict)
     related: list[RelatedView] = field(default_factory=list)  # cross-certificate findings
     related_note: str = ""  # the verdict box's sentence about them
+    problems_hidden: int = 0  # extraction problems not listed (all are in the JSON)
     drafted_note: str = ""  # read with a layout drafted on the fly: the verdict box says so
 
 
@@ -306,6 +309,15 @@ def _ref_sort(ref: str | None) -> tuple[int, int, str]:
     return (1, int(digits) if digits else 10**6, ref)
 
 
+# A report stays one usable page however large the certificate: a schedule of thousands of
+# circuits (a board heading never matched) would otherwise make a report of hundreds of MB.
+# Beyond these numbers the HTML lists what needs attention and says what it left out; the
+# JSON and CSV reports always hold everything. Common practice, no source.
+SHOWN_ROWS = 600  # schedule rows in one report (circuits with findings first)
+SHOWN_FINDINGS_PER_GROUP = 500
+SHOWN_PROBLEMS = 300
+
+
 def _finding_views(
     findings: list[Finding], runs: dict[str, CheckRun]
 ) -> tuple[list[FindingGroup], dict[int, FindingView]]:
@@ -346,7 +358,29 @@ def _finding_views(
             label = "preview checks (not counted)" if f.preview else f.severity.label
             groups[key] = FindingGroup(key, label, [])
         groups[key].findings.append(view)
-    return list(groups.values()), by_index
+    return [
+        replace(g, findings=g.findings[:SHOWN_FINDINGS_PER_GROUP],
+                hidden=max(0, len(g.findings) - SHOWN_FINDINGS_PER_GROUP))
+        for g in groups.values()
+    ], by_index
+
+
+def _shown_rows(boards: list[BoardView]) -> list[BoardView]:
+    """At most SHOWN_ROWS schedule rows in all: rows with a finding first, then the others,
+    each board keeping its own order; each board says how many it left out."""
+    total = sum(len(b.rows) for b in boards)
+    if total <= SHOWN_ROWS:
+        return boards
+    flagged = [(k, i) for k, b in enumerate(boards) for i, r in enumerate(b.rows)
+               if r.severity or r.circuit_notes]
+    plain = [(k, i) for k, b in enumerate(boards) for i, r in enumerate(b.rows)
+             if not (r.severity or r.circuit_notes)]
+    keep = set((flagged + plain)[:SHOWN_ROWS])
+    return [
+        replace(b, rows=[r for i, r in enumerate(b.rows) if (k, i) in keep],
+                hidden=sum(1 for i in range(len(b.rows)) if (k, i) not in keep))
+        for k, b in enumerate(boards)
+    ]
 
 
 def _questioned(
@@ -472,8 +506,12 @@ def build_report(
     groups, by_index = _finding_views(results.findings, runs)
     pairs = [(f, by_index[i]) for i, f in enumerate(results.findings)]
 
+    by_place: dict[tuple[str | None, str | None], list[tuple[Finding, FindingView]]] = {}
+    for f, v in pairs:  # one pass: a schedule of thousands of circuits stays linear
+        by_place.setdefault((f.board, f.circuit), []).append((f, v))
+
     def about(board: str | None, circuit: str | None) -> list[tuple[Finding, FindingView]]:
-        return [(f, v) for f, v in pairs if f.board == board and f.circuit == circuit]
+        return by_place.get((board, circuit), [])
 
     cert_level = about(None, None)
     details = [
@@ -506,7 +544,7 @@ def build_report(
             raw=p.raw or "",
             page=_page(p.box.page if p.box else None),
         )
-        for p in cert.problems
+        for p in cert.problems[:SHOWN_PROBLEMS]
     ]
 
     circuits = len(cert.circuits())
@@ -522,8 +560,9 @@ def build_report(
         details=details,
         source=SourceView(cert.source, cert.sha256, cert.layout, cert.engine, cert.page_count),
         finding_groups=groups,
-        boards=boards,
+        boards=_shown_rows(boards),
         problems=problems,
+        problems_hidden=max(0, len(cert.problems) - SHOWN_PROBLEMS),
         runs=_runs(results, profile),
         run_summary=_run_summary(results, circuits),
         profile=ProfileView(profile.name, profile.description, profile.path or "built in"),

@@ -24,9 +24,10 @@ EXPECTED = json.loads((HOSTILE / "expected.json").read_text(encoding="utf-8"))
 ENGINES = ("pdfplumber", "pdfium")
 
 
-def _audit(path: Path, engine: str, password: str | None) -> AuditResult:
+def _audit(path: Path, engine: str, password: str | None,
+           layout_file: str = "layouts/hostile-grid.toml") -> AuditResult:
     """Through the library API (extract, check, verdict), as `certvet audit` does."""
-    layout = load_layout(HOSTILE / "layouts" / "hostile-grid.toml")
+    layout = load_layout(HOSTILE / layout_file)
     return audit_file(path, layout=layout, engine=engine, password=password, formats=())
 
 
@@ -56,7 +57,8 @@ def test_hostile_file(key: str, engine: str) -> None:
         assert spec["reason"] in message, message
         return
     try:
-        result = _audit(path, engine, spec.get("password"))
+        result = _audit(path, engine, spec.get("password"),
+                        spec.get("layout", "layouts/hostile-grid.toml"))
     except InputError as exc:  # a clean refusal, but not what this file should give
         pytest.fail(f"expected an audit, got InputError: {exc}")
     cert = result.certificate
@@ -230,3 +232,93 @@ def test_an_internal_error_has_its_own_exit_code(
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "Traceback" not in err
     assert err.startswith("certvet: internal error (RuntimeError: a bug\\nwith two lines)")
+
+
+# --- per-file limits in audit ---------------------------------------------------------------
+
+
+def test_audit_has_the_batch_limits_on_resident_memory(tmp_path: Path) -> None:
+    """`audit` runs each file under a time and memory limit, and the memory limit is on
+    resident memory: 250 MB is plenty for a 3-page certificate (an address-space limit of
+    250 MB fails it), while 1 MB stops the file with a one-line reason."""
+    demo = HOSTILE.parents[0] / "demo"
+    pdf, layouts = demo / "grid-clean-01.pdf", HOSTILE.parents[0] / "layouts"
+    code, out = _invoke(["audit", pdf, "-l", layouts, "-o", tmp_path / "a", "--memory-mb", "250"])
+    assert code in (0, 1) and "FAILED" not in out, out
+    code, out = _invoke(["audit", pdf, "-l", layouts, "-o", tmp_path / "b", "--memory-mb", "1"])
+    assert code == 3, out
+    assert "used more than the memory limit" in out
+
+
+# --- patterns that cannot hang, limited TOML, profiles validated before any file is read ----
+
+
+@pytest.mark.parametrize("name", sorted(EXPECTED["profiles"]))
+def test_hostile_profile(name: str) -> None:
+    from checks.profile import ProfileError, load_profile
+
+    path = HOSTILE / "profiles" / name
+    with pytest.raises(ProfileError) as info:
+        load_profile(path)
+    message = str(info.value)
+    assert "\n" not in message and message.startswith(f"{path}: ")
+    assert EXPECTED["profiles"][name] in message, message
+
+
+def test_every_hostile_profile_has_an_expected_outcome() -> None:
+    assert {p.name for p in (HOSTILE / "profiles").glob("*.toml")} == set(EXPECTED["profiles"])
+
+
+def test_a_bad_profile_stops_the_cli_before_any_file_is_read(tmp_path: Path) -> None:
+    layout, profile = HOSTILE / "layouts" / "hostile-grid.toml", HOSTILE / "profiles"
+    code, out = _invoke(["audit", HOSTILE / "not-a-pdf.pdf", "-l", layout,
+                         "--profile", profile / "zero-voltage.toml", "-o", tmp_path])
+    assert code == 2, out
+    assert "u0_v: must be above 0" in out and "not a PDF" not in out
+
+
+def _audit_bait(path: Path) -> int:
+    layout = load_layout(HOSTILE / "layouts" / "catastrophic-pattern.toml")
+    return len(audit_file(path, layout=layout, formats=()).certificate.circuits())
+
+
+def test_a_catastrophic_pattern_does_not_hang() -> None:
+    """`^(a+)+$` against a line of 40 a's and a "!" backtracks for ever in Python's engine;
+    the layout runs it on RE2. Run in a child with a generous limit, so a regression fails
+    rather than hangs the suite."""
+    from certvet.workers import Limits, run_isolated
+
+    [outcome] = run_isolated([HOSTILE / "backtracking-bait.pdf"], _audit_bait,
+                             limits=Limits(seconds=60, memory_mb=0))
+    assert outcome.error is None and outcome.result == 4
+
+
+def test_an_oversized_layout_is_refused_in_one_line(tmp_path: Path) -> None:
+    big = tmp_path / "big.toml"
+    good = (HOSTILE / "layouts" / "hostile-grid.toml").read_text(encoding="utf-8")
+    big.write_text(good + "\n# " + "x" * 1_100_000 + "\n", encoding="utf-8")
+    with pytest.raises(LayoutError) as info:
+        load_layout(big)
+    assert str(info.value).startswith(f"{big}: file too large")
+
+
+# --- large inputs ----------------------------------------------------------------------------
+
+
+@pytest.mark.slow
+def test_a_huge_schedule_gives_a_bounded_usable_report(tmp_path: Path) -> None:
+    """6,600 rows in one board (its heading pattern never matched): flagged as a problem, and
+    the HTML report lists at most SHOWN_ROWS rows (circuits with findings first), says how
+    many it left out, and stays a few MB (it was hundreds)."""
+    from reports.model import SHOWN_ROWS
+
+    layout = load_layout(HOSTILE / "layouts" / "hostile-grid.toml")
+    result = audit_file(HOSTILE / "three-hundred-pages-board-heading-missed.pdf", layout=layout,
+                        out_dir=tmp_path, formats=("html",), engine="pdfium")
+    assert result.verdict.key is not VerdictKey.NO_CONCERNS and not result.verdict.complete
+    html = result.outputs["html"].read_text(encoding="utf-8")
+    rows = html.count("<tr data-circuit=")
+    assert 0 < rows <= SHOWN_ROWS
+    assert "of this board not shown" in html
+    assert "has 6600 rows, more than a board plausibly holds" in html
+    print(f"HTML report for 6,600 circuits: {len(html.encode()) / 1e6:.1f} MB, {rows} rows shown")

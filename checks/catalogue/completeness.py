@@ -35,9 +35,22 @@ def limitations_recorded(cert: Certificate) -> bool:
     return v.text.strip().strip(".").lower() not in _NONE_WORDS
 
 
+_ON_FORM: dict[int, tuple[list[Circuit], int, frozenset[str]]] = {}
+
+
 def _column_on_form(board: Board, name: str) -> bool:
-    """The board's schedule has this column: at least one circuit row has the cell."""
-    return any(name in c.cells for c in board.circuits)
+    """The board's schedule has this column: at least one circuit row has the cell.
+
+    The board's set of columns is worked out once per board, not once per circuit (a board of
+    thousands of rows made this check quadratic); the cache entry is checked against the very
+    list of circuits and its length, so a changed board is worked out again."""
+    got = _ON_FORM.get(id(board))
+    if got is None or got[0] is not board.circuits or got[1] != len(board.circuits):
+        names = frozenset(n for c in board.circuits for n in c.cells)
+        if len(_ON_FORM) > 8:
+            _ON_FORM.clear()
+        got = _ON_FORM[id(board)] = (board.circuits, len(board.circuits), names)
+    return name in got[2]
 
 
 @register
@@ -317,7 +330,7 @@ class CertificateDetailsMissing(CertificateCheck):
         fields: str = option(
             "cert_number,address,inspection_date,inspector,next_inspection",
             "common practice, no source",
-            "comma-separated certificate fields that must be filled in",
+            "comma-separated certificate fields that must be filled in", names="certificate"
         )
 
     def check_certificate(self, cert: Certificate) -> Iterable[Finding] | None:

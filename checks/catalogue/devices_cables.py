@@ -142,7 +142,7 @@ class RingDeviceRating(CircuitCheck):
     class Options:
         max_rating_a: float = option(
             32.0, "BS 7671:2018+A2:2022 Reg 433.1.204: 30 A or 32 A device",
-            "largest device rating allowed for a 2.5 mm² ring (A)")
+            "largest device rating allowed for a 2.5 mm² ring (A)", above=0.0)
 
     def check_circuit(
         self, cert: Certificate, board: Board, circuit: Circuit
@@ -310,14 +310,17 @@ class CpcAdiabatic(CircuitCheck):
     @dataclass(frozen=True)
     class Options:
         u0_v: float = option(230.0, "BS 7671:2018+A2:2022 Table 41.1: U0 230 V",
-                             "nominal voltage to earth for the fault current I = U0/Zs (V)")
+                             "nominal voltage to earth for the fault current I = U0/Zs (V)",
+                             above=0.0)
         breaker_time_s: float = option(
             0.01, "from memory: half a cycle at 50 Hz, within which an energy-limiting breaker "
             "typically clears (our assumption; 0.1 s is the BS EN 60898-1 upper limit)",
-            "time assumed for a circuit-breaker in its instantaneous region (s)")
+            "time assumed for a circuit-breaker in its instantaneous region (s)",
+            above=0.0)
         rcd_time_s: float = option(
             0.3, "BS EN 61008-1 / 61009-1: a general RCD trips within 300 ms at IΔn",
-            "time for an RCD to clear a fault below the overcurrent device's fast region (s)")
+            "time for an RCD to clear a fault below the overcurrent device's fast region (s)",
+            above=0.0)
 
     def check_circuit(
         self, cert: Certificate, board: Board, circuit: Circuit

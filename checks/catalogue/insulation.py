@@ -103,7 +103,7 @@ class InsulationBelowMinimum(CircuitCheck):
         assumed_test_voltage: float = option(
             500.0,
             "BS 7671:2018+A2:2022 Table 64: 500 V d.c. for circuits up to 500 V",
-            "test voltage (V) assumed when the schedule records none",
+            "test voltage (V) assumed when the schedule records none", above=0.0
         )
 
     def check_circuit(

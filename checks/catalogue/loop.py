@@ -464,7 +464,7 @@ class ZsOver80PercentRule(CircuitCheck):
         factor: float = option(
             table_factor("rule_of_thumb_80_percent"),
             "common practice, no source (checks/data/temperature_factors.csv)",
-            "fraction of the tabulated maximum a cold Zs should stay below",
+            "fraction of the tabulated maximum a cold Zs should stay below", above=0.0
         )
 
     def check_circuit(
@@ -652,7 +652,7 @@ class DisconnectionTimeApplies(CircuitCheck):
             230.0,
             "UK nominal voltage 230 V (Electricity Safety, Quality and Continuity Regulations "
             "2002)",
-            "nominal U0 in volts for Table 41.1",
+            "nominal U0 in volts for Table 41.1", above=0.0
         )
 
     def check_circuit(
@@ -721,7 +721,7 @@ class TtRcdRaLimit(CircuitCheck):
     @dataclass(frozen=True)
     class Options:
         touch_voltage_v: float = option(
-            50.0, "BS 7671:2018+A2:2022 Reg 411.5.3", "largest RA × IΔn in volts"
+            50.0, "BS 7671:2018+A2:2022 Reg 411.5.3", "largest RA × IΔn in volts", above=0.0
         )
 
     def check_circuit(

@@ -119,7 +119,7 @@ class RcdMissingForSockets(CircuitCheck):
         max_rating_a: float = option(
             32.0,
             "BS 7671:2018+A2:2022 Reg 411.3.3: socket-outlets rated up to 32 A",
-            "socket circuits rated up to this (A) need RCD protection",
+            "socket circuits rated up to this (A) need RCD protection", above=0.0
         )
         max_idn_ma: float = option(
             30.0,

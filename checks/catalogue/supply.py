@@ -164,11 +164,11 @@ class IpfConsistentWithZe(CertificateCheck):
             230.0,
             "UK nominal voltage 230 V (Electricity Safety, Quality and Continuity Regulations "
             "2002)",
-            "nominal U0 in volts",
+            "nominal U0 in volts", above=0.0
         )
         min_ratio: float = option(0.67, "common practice, no source", "smallest Ipf / (U0/Ze)")
         max_ratio: float = option(
-            2.0, "common practice, no source", "largest Ipf / (U0/Ze) on TN-C-S"
+            2.0, "common practice, no source", "largest Ipf / (U0/Ze) on TN-C-S", above=0.0
         )
         declared_figures_ka: str = option(
             "16", "common practice, no source: the 16 kA network operators declare for a "

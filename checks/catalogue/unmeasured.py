@@ -432,12 +432,14 @@ class LastDigitPreference(CertificateCheck):
     @dataclass(frozen=True)
     class Options:
         alpha: float = option(0.001, "common practice, no source",
-                              "significance level: the false-alarm rate on honest readings")
+                              "significance level: the false-alarm rate on honest readings",
+                              above=0.0, below=1.0)
         min_digits: int = option(40, "common practice, no source (about 4 expected per digit)",
                                  "fewest readings before the test is made")
         fields: str = option("r1,r2,r1_r2,r2_only,zs,rcd_time",
                              "common practice, no source",
-                             "comma-separated circuit fields whose readings are tested")
+                             "comma-separated circuit fields whose readings are tested",
+                             names="circuit")
         coarse_above_ohm: float = option(
             20.0, "from memory: loop testers change to a 0.1 Ω range above 20 Ω "
             "(checks/data/loop_resolution.csv)",

@@ -280,7 +280,12 @@ class PlumberDocument:
         return self._pdf.pages[number - 1].page_obj
 
     def close(self) -> None:
-        self._pdf.close()
+        try:
+            self._pdf.close()
+        except Exception:  # noqa: BLE001 - closing walks a damaged page tree again: close the file
+            stream = getattr(self._pdf, "stream", None)
+            if stream is not None:
+                stream.close()
 
 
 class PlumberEngine:
