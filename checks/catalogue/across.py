@@ -189,8 +189,8 @@ _WORKLOAD_DOC = """
 
     Known false alarms:
     Certificates dated on the day they were written up rather than the day of the tests; a
-    team of inspectors signing under one name; one instrument serial shared by a team's
-    instruments through a transcription habit.
+    team of inspectors signing under one name; one instrument serial copied onto every
+    certificate of a team from the first one filled in.
 
     Options:
     minutes_per_circuit: fewest minutes one circuit's tests can take.
