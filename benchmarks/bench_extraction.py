@@ -67,7 +67,7 @@ def raw_floor(path: Path) -> int:
 
 def engine_run(name: str) -> Callable[[Path], int]:
     def run(path: Path) -> int:
-        from extractor.api import get_engine
+        from certvet.extractor.api import get_engine
 
         doc = get_engine(name).open(str(path))
         n = sum(1 for _ in doc.pages())
@@ -84,8 +84,8 @@ def extract_run(path: Path) -> int:
     """The pdfium engine's full extraction: chars → words → rules → assemble (records)."""
     import json
 
-    from extractor.api import extract
-    from extractor.layout import load_layout
+    from certvet.extractor.api import extract
+    from certvet.extractor.layout import load_layout
 
     lay = _LAYOUTS.get(path)
     if lay is None:

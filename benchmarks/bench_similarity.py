@@ -32,12 +32,12 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from checks.profile import DEFAULT_PROFILE  # noqa: E402
-from checks.runner import CheckResults  # noqa: E402
-from corpus import Corpus  # noqa: E402
-from corpus.fingerprints import certificate_readings  # noqa: E402
-from corpus.similarity import build_signatures, find_similar  # noqa: E402
-from corpus.synthetic import CertificateStream  # noqa: E402
+from certvet.checks.profile import DEFAULT_PROFILE  # noqa: E402
+from certvet.checks.runner import CheckResults  # noqa: E402
+from certvet.corpus import Corpus  # noqa: E402
+from certvet.corpus.fingerprints import certificate_readings  # noqa: E402
+from certvet.corpus.similarity import build_signatures, find_similar  # noqa: E402
+from certvet.corpus.synthetic import CertificateStream  # noqa: E402
 
 COPY_KINDS = ("whole", "nudged", "board", "run")
 

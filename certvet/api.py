@@ -19,18 +19,18 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from certvet import __version__
-from checks.profile import DEFAULT_PROFILE, Profile, load_profile
-from checks.runner import CheckResults, run_checks
-from extractor.errors import InputError, NoLayoutMatches, NotRecognised
-from extractor.layout import Layout, LayoutError, load_layout, load_layouts
-from extractor.records import Certificate
+from certvet.checks.profile import DEFAULT_PROFILE, Profile, load_profile
+from certvet.checks.runner import CheckResults, run_checks
+from certvet.extractor.errors import InputError, NoLayoutMatches, NotRecognised
+from certvet.extractor.layout import Layout, LayoutError, load_layout, load_layouts
+from certvet.extractor.records import Certificate
 
 if TYPE_CHECKING:  # reports.verdict is imported lazily, in AuditResult.verdict
     import pandas as pd
 
     from certvet.drafting import DraftedForms, DraftOptions
+    from certvet.reports.verdict import Verdict
     from certvet.workers import Limits
-    from reports.verdict import Verdict
 
 __all__ = [
     "AuditResult",
@@ -49,9 +49,8 @@ __all__ = [
     "load_profile",
 ]
 
-REPO_ROOT = Path(__file__).resolve().parents[1]
-DEMO_DIR = REPO_ROOT / "fixtures" / "demo"
-DEMO_LAYOUTS = REPO_ROOT / "fixtures" / "layouts"
+DEMO_DIR = Path(__file__).resolve().parent / "demo" / "certificates"
+DEMO_LAYOUTS = Path(__file__).resolve().parent / "demo" / "layouts"
 
 
 class ReportWriteError(InputError):
@@ -69,25 +68,25 @@ class AuditResult:
 
     @property
     def verdict(self) -> Verdict:
-        from reports.verdict import verdict_for
+        from certvet.reports.verdict import verdict_for
 
         return verdict_for(self.certificate, self.results)
 
     def circuits_frame(self) -> pd.DataFrame:
         """The certificate's circuits as a DataFrame (extractor.frame.circuits_frame)."""
-        from extractor.frame import circuits_frame
+        from certvet.extractor.frame import circuits_frame
 
         return circuits_frame(self.certificate)
 
     def findings_frame(self) -> pd.DataFrame:
         """The findings as a DataFrame (checks.frame.findings_frame)."""
-        from checks.frame import findings_frame
+        from certvet.checks.frame import findings_frame
 
         return findings_frame(self.results.findings)
 
     @property
     def has_breach(self) -> bool:
-        from checks.model import Severity
+        from certvet.checks.model import Severity
 
         worst = self.results.worst()
         return worst is not None and worst >= Severity.BREACH
@@ -140,7 +139,7 @@ def audit_file(
 
     Raises InputError (one-line message naming the file) for input that cannot be audited.
     """
-    from extractor.api import extract
+    from certvet.extractor.api import extract
 
     path = Path(pdf)
     out_dir = Path(out_dir) if out_dir is not None else None
@@ -184,8 +183,8 @@ def _recognise_or_draft(
 ) -> tuple[Layout, Certificate]:
     """The given layout that recognises the file; else one drafted earlier in the run; else
     (when drafting is on) one drafted from the file now. NotRecognised when none."""
-    from extractor.api import extract_recognised
-    from extractor.draft_reading import draft_command
+    from certvet.extractor.api import extract_recognised
+    from certvet.extractor.draft_reading import draft_command
 
     if layouts:
         found, got = extract_recognised(path, layouts, engine=engine, password=password)
@@ -219,10 +218,10 @@ def write_reports(
     """Write the certificate's reports as `<out_dir>/<stem>.html|.json|.records.csv|
     .findings.csv|.summary.html|.queries.html` (stem: the PDF's name by default). A folder
     that cannot be written is a ReportWriteError (an InputError) naming it, never a traceback."""
-    from reports.csvout import write_csv
-    from reports.html import write_html
-    from reports.jsonout import write_json
-    from reports.readers import write_query_sheet, write_summary
+    from certvet.reports.csvout import write_csv
+    from certvet.reports.html import write_html
+    from certvet.reports.jsonout import write_json
+    from certvet.reports.readers import write_query_sheet, write_summary
 
     stem = stem or result.source.stem
     cert, res = result.certificate, result.results

@@ -54,24 +54,24 @@ from enum import StrEnum
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from certvet.checks.model import Severity
+from certvet.checks.profile import DEFAULT_PROFILE, Profile
 from certvet.drafting import DraftedForms, DraftOptions, audit_unknown_forms
 from certvet.exitcodes import DEFAULT_FAIL_ON as DEFAULT_FAIL_ON_TEXT
 from certvet.exitcodes import EXIT_CLEAN, EXIT_FAILED, EXIT_FINDINGS, parse_fail_on
+from certvet.extractor.errors import InputError, NotRecognised
+from certvet.extractor.layout import Layout
+from certvet.extractor.untrusted import one_line
+from certvet.reports.verdict import NOT_AUDITED
 from certvet.workers import Limits, Outcome, run_isolated
-from checks.model import Severity
-from checks.profile import DEFAULT_PROFILE, Profile
-from extractor.errors import InputError, NotRecognised
-from extractor.layout import Layout
-from extractor.untrusted import one_line
-from reports.verdict import NOT_AUDITED
 
 if TYPE_CHECKING:
     from certvet.api import AuditResult
-    from checks.model import Finding
-    from corpus.crosscheck import CrossFinding
-    from corpus.store import Corpus
-    from reports.portfolio import PortfolioData
-    from reports.verdict import Verdict
+    from certvet.checks.model import Finding
+    from certvet.corpus.crosscheck import CrossFinding
+    from certvet.corpus.store import Corpus
+    from certvet.reports.portfolio import PortfolioData
+    from certvet.reports.verdict import Verdict
 
 __all__ = ["BatchReport", "FileOutcome", "Status", "run_batch", "write_portfolio"]
 
@@ -174,7 +174,7 @@ class BatchReport:
 
     def portfolio_data(self) -> PortfolioData:
         """The portfolio view-model over this batch's certificates (read from the store)."""
-        from corpus.store import Corpus
+        from certvet.corpus.store import Corpus
 
         reports = {o.sha256: o.reports["html"] for o in self.outcomes
                    if o.sha256 and "html" in o.reports}
@@ -241,7 +241,7 @@ class AuditJob:
 
 def _hash(path: Path) -> tuple[str | None, str | None]:
     """(sha256, None) or (None, one-line reason)."""
-    from extractor.api import file_sha256
+    from certvet.extractor.api import file_sha256
 
     if path.is_dir():
         return None, f"{path}: is a folder, not a PDF"
@@ -286,7 +286,7 @@ def run_batch(
     """Audit every input into the store; see the module docstring. Never raises for a bad
     file; raises CorpusError (one line) when the store itself cannot be used."""
     from certvet.api import expand_inputs
-    from corpus.store import Corpus
+    from certvet.corpus.store import Corpus
 
     prof = profile or DEFAULT_PROFILE
     out = Path(out_dir) if out_dir is not None else None
@@ -384,7 +384,7 @@ def _compare_across(corpus: Corpus, report: BatchReport, profile: Profile,
     """The cross-certificate phase: run and store the checks, decide again the verdict of
     every certificate they concern (stored; the outcomes of this run updated), re-write
     those certificates' reports."""
-    from corpus.crosscheck import run_cross_checks
+    from certvet.corpus.crosscheck import run_cross_checks
 
     ids = {cid for sha in set(report.shas) if (cid := corpus.find(sha)) is not None}
     phase = run_cross_checks(corpus, ids, profile)
@@ -414,8 +414,8 @@ def _compare_across(corpus: Corpus, report: BatchReport, profile: Profile,
 def decide_again(corpus: Corpus, cert_ids: Iterable[int],
                  cross: dict[int, list[Finding]]) -> dict[int, Verdict]:
     """The verdict of each stored certificate with its cross-certificate findings counted."""
-    from checks.runner import CheckResults
-    from reports.verdict import decide
+    from certvet.checks.runner import CheckResults
+    from certvet.reports.verdict import decide
 
     out = {}
     for cid in sorted(cert_ids):
@@ -429,11 +429,11 @@ def warm_up(layouts: Sequence[Layout], engine: str | None) -> None:
     """Do once in the parent what every child would otherwise do per file: import the
     engines and report modules, load the catalogue and its reference tables, compile the
     report template. Children are forked from the parent, so they start warm."""
-    from checks.runner import run_checks
-    from extractor.api import warm_up_engine
-    from reports.csvout import write_csv  # noqa: F401  (imported for the children)
-    from reports.html import render_html
-    from reports.jsonout import report_dict
+    from certvet.checks.runner import run_checks
+    from certvet.extractor.api import warm_up_engine
+    from certvet.reports.csvout import write_csv  # noqa: F401  (imported for the children)
+    from certvet.reports.html import render_html
+    from certvet.reports.jsonout import report_dict
 
     for name in {engine} if engine else {lay.engine for lay in layouts}:
         try:
@@ -448,9 +448,9 @@ def warm_up(layouts: Sequence[Layout], engine: str | None) -> None:
 
 def _warm_up_certificate() -> Any:
     """A two-circuit certificate (a ring and a radial) that touches every kind of check."""
-    from extractor.fields import BOARD, FIELDS
-    from extractor.records import Board, Cell, Certificate, Circuit
-    from extractor.tokens import parse_value
+    from certvet.extractor.fields import BOARD, FIELDS
+    from certvet.extractor.records import Board, Cell, Certificate, Circuit
+    from certvet.extractor.tokens import parse_value
 
     def cells(specs: dict[str, Any], values: dict[str, str]) -> dict[str, Cell]:
         return {
@@ -489,7 +489,7 @@ def _store_outcome(corpus: Corpus, oc: Outcome, sha: str,
     one-line CorpusError naming the store and the file: nothing of the file is stored, so it
     is never recorded as failed for the store's fault, and a re-run audits it."""
     from certvet.api import ReportWriteError
-    from corpus.store import CorpusError
+    from certvet.corpus.store import CorpusError
 
     if oc.error is None and oc.result is not None:
         res: AuditResult = oc.result
@@ -518,7 +518,7 @@ def cross_findings(corpus: Corpus, shas: set[str], profile: Profile | None = Non
                    ) -> list[CrossFinding]:
     """Copies, repeats, reused numbers and workload for the certificates with these hashes
     (computed, not stored: the portfolio's side-by-side readings)."""
-    from corpus.crosscheck import check_certificate, workload
+    from certvet.corpus.crosscheck import check_certificate, workload
 
     ids = {cid for sha in sorted(shas) if (cid := corpus.find(sha)) is not None}
     found: list[CrossFinding] = []
@@ -547,8 +547,8 @@ def related_findings(
     None); links are its file name, as the reports are siblings in one folder."""
     from urllib.parse import quote
 
-    from corpus.store import CertificateRow
-    from reports.model import OtherCertificate, PairedValue, RelatedFinding
+    from certvet.corpus.store import CertificateRow
+    from certvet.reports.model import OtherCertificate, PairedValue, RelatedFinding
 
     rows: dict[int, CertificateRow] = {}
 
@@ -603,10 +603,10 @@ def rewrite_related_reports(
     from datetime import datetime
 
     from certvet import __version__
-    from checks.runner import CheckResults
-    from reports.csvout import write_findings_csv
-    from reports.html import write_html
-    from reports.jsonout import write_json
+    from certvet.checks.runner import CheckResults
+    from certvet.reports.csvout import write_findings_csv
+    from certvet.reports.html import write_html
+    from certvet.reports.jsonout import write_json
 
     files = {f.sha256: f for f in corpus.files()}
     stems_of: dict[str, list[str]] = {}
@@ -669,9 +669,9 @@ def write_cross_findings(found: Sequence[CrossFinding], out_dir: Path,
     and `related_sha256`, the certificates' stable keys) and `cross-findings.csv` (the same
     columns). `keys` maps store ids to (content hash, number). Each file replaces the old one
     only once written in full (a full disk leaves the old file, never an empty one)."""
-    from checks.model import FINDING_COLUMNS
-    from reports.csvout import write_table
-    from reports.files import replaced_atomically
+    from certvet.checks.model import FINDING_COLUMNS
+    from certvet.reports.csvout import write_table
+    from certvet.reports.files import replaced_atomically
 
     keys = keys or {}
     rows = []
@@ -696,8 +696,8 @@ def write_cross_findings(found: Sequence[CrossFinding], out_dir: Path,
 def write_portfolio(store_or_results: Any, path: Path | str, *,
                     reports_dir: Path | None = None) -> Path:
     """Write the portfolio page for a BatchReport, a Corpus, or a store path."""
-    from corpus.store import Corpus
-    from reports.portfolio import render_portfolio
+    from certvet.corpus.store import Corpus
+    from certvet.reports.portfolio import render_portfolio
 
     if isinstance(store_or_results, BatchReport):
         data = store_or_results.portfolio_data()
@@ -723,15 +723,15 @@ def collect_portfolio(
     (every certificate when `shas` is None), their findings, the cross-certificate findings,
     readings for the charts, and a link to each certificate's own report when known
     (`reports` by hash, else `reports_dir/<stem>-<sha8>.html` when that file exists)."""
-    from checks.devices import parse_device
-    from checks.model import Severity
-    from checks.runner import CheckResults
-    from checks.tables import max_zs
-    from corpus.crosscheck import party_stats, workload_limit
-    from corpus.store import STAGE_CORPUS
-    from extractor.records import ValueKind
-    from reports.portfolio import CertInput, LinkInput, PartyInput, PortfolioData
-    from reports.verdict import decide
+    from certvet.checks.devices import parse_device
+    from certvet.checks.model import Severity
+    from certvet.checks.runner import CheckResults
+    from certvet.checks.tables import max_zs
+    from certvet.corpus.crosscheck import party_stats, workload_limit
+    from certvet.corpus.store import STAGE_CORPUS
+    from certvet.extractor.records import ValueKind
+    from certvet.reports.portfolio import CertInput, LinkInput, PartyInput, PortfolioData
+    from certvet.reports.verdict import decide
 
     rows = [r for r in corpus.certificates() if shas is None or r.sha256 in shas]
     known = {r.sha256 for r in rows}

@@ -26,7 +26,7 @@ from certvet.exitcodes import (
     EXIT_USAGE,
     parse_fail_on,
 )
-from extractor.engines.names import EngineName
+from certvet.extractor.engines.names import EngineName
 
 
 def _readable_metavars() -> None:
@@ -65,10 +65,10 @@ _readable_metavars()
 
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
     from certvet.api import AuditResult
+    from certvet.checks.profile import Profile
     from certvet.drafting import DraftOptions
+    from certvet.extractor.layout import Layout
     from certvet.workers import Limits
-    from checks.profile import Profile
-    from extractor.layout import Layout
 
 app = typer.Typer(
     name="certvet",
@@ -113,8 +113,8 @@ def _load_inputs(
 ) -> tuple[list[Layout], Profile]:
     import dataclasses
 
-    from checks.profile import DEFAULT_PROFILE, ProfileError, load_profile, parse_audit_date
-    from extractor.layout import LayoutError, load_layouts
+    from certvet.checks.profile import DEFAULT_PROFILE, ProfileError, load_profile, parse_audit_date
+    from certvet.extractor.layout import LayoutError, load_layouts
 
     try:
         layouts = load_layouts(layout_paths) if layout_paths else []
@@ -151,7 +151,7 @@ def _run_batch(
     limits: Limits | None = None,
 ) -> int:
     from certvet.api import audit_many
-    from reports.verdict import NOT_AUDITED
+    from certvet.reports.verdict import NOT_AUDITED
 
     quiet = quiet or as_json  # --json: stdout holds the document alone; errors go to stderr
     show_bar = len(pdfs) > 3 and not quiet and sys.stderr.isatty()
@@ -364,7 +364,7 @@ def demo(
 @app.command("checks")
 def list_checks() -> None:
     """List the catalogue of checks with their severity and reference."""
-    from checks.describe import catalogue_rows
+    from certvet.checks.describe import catalogue_rows
 
     for row in catalogue_rows():
         typer.echo(f"{row.id:<34} {row.severity:<11} {row.title}")
@@ -378,7 +378,7 @@ def explain(
     ],
 ) -> None:
     """Explain one check: what it checks, why, false alarms, examples, options, reference."""
-    from checks.describe import explain_check
+    from certvet.checks.describe import explain_check
 
     try:
         typer.echo(explain_check(check_id))
@@ -390,7 +390,7 @@ def explain(
 @app.command()
 def fields() -> None:
     """List the canonical fields a layout can map columns and labels to."""
-    from extractor.fields import BOARD_FIELDS, CERTIFICATE_FIELDS, CIRCUIT_FIELDS
+    from certvet.extractor.fields import BOARD_FIELDS, CERTIFICATE_FIELDS, CIRCUIT_FIELDS
 
     for title, specs in (
         ("circuit (columns)", CIRCUIT_FIELDS),
@@ -411,7 +411,7 @@ def check_layout(
     ],
 ) -> None:
     """Validate layout files; print one line per problem."""
-    from extractor.layout import LayoutError, load_layout
+    from certvet.extractor.layout import LayoutError, load_layout
 
     bad = 0
     files: list[Path] = []

@@ -78,10 +78,10 @@ def batch(
     """Audit a folder of certificates into the corpus: resumable, in parallel, never stopped by
     one bad file; then cross-certificate checks and a portfolio page."""
     from certvet.batch import FileOutcome, Status, run_batch
+    from certvet.checks.profile import DEFAULT_PROFILE, ProfileError, load_profile
+    from certvet.corpus.store import CorpusError
+    from certvet.extractor.layout import LayoutError, load_layouts
     from certvet.workers import Limits
-    from checks.profile import DEFAULT_PROFILE, ProfileError, load_profile
-    from corpus.store import CorpusError
-    from extractor.layout import LayoutError, load_layouts
 
     try:
         layouts = load_layouts(layout) if layout else []
@@ -92,7 +92,7 @@ def batch(
         raise typer.Exit(EXIT_USAGE) from None
 
     from certvet.api import expand_inputs
-    from reports.verdict import NOT_AUDITED
+    from certvet.reports.verdict import NOT_AUDITED
 
     if not expand_inputs(inputs):
         _err(f"{', '.join(str(p) for p in inputs)}: no PDF files found")
@@ -192,7 +192,7 @@ def portfolio(
 ) -> None:
     """Write one self-contained HTML page over the whole corpus."""
     from certvet.batch import write_portfolio
-    from corpus.store import CorpusError
+    from certvet.corpus.store import CorpusError
 
     if not store.exists():
         _err(f"{store}: no such corpus store")
@@ -219,8 +219,8 @@ def export(
                    ] = Path("corpus-export"),
 ) -> None:
     """Export every table of the corpus as CSV or Parquet files, or one XLSX workbook."""
+    from certvet.corpus.store import CorpusError
     from certvet.export import export_store
-    from corpus.store import CorpusError
 
     if not store.exists():
         _err(f"{store}: no such corpus store")

@@ -7,7 +7,7 @@ from typing import TYPE_CHECKING, Annotated
 
 import typer
 
-from extractor.draft_reading import READ_THRESHOLD, TRUSTED_THRESHOLD
+from certvet.extractor.draft_reading import READ_THRESHOLD, TRUSTED_THRESHOLD
 
 READ_AT, TRUSTED_AT = READ_THRESHOLD, TRUSTED_THRESHOLD  # the defaults of the two options
 

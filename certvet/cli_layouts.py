@@ -22,10 +22,10 @@ import typer
 from certvet.console import err as _err
 from certvet.console import one_line, plain_console
 from certvet.exitcodes import EXIT_FAILED, EXIT_USAGE
-from extractor.engines.names import EngineName
+from certvet.extractor.engines.names import EngineName
 
 if TYPE_CHECKING:  # for annotations only: heavy modules are imported inside the commands
-    from extractor.layout import Layout
+    from certvet.extractor.layout import Layout
 
 app = typer.Typer(
     add_completion=False,
@@ -47,7 +47,7 @@ OptionalEngine = Annotated[
 
 
 def _layout(path: Path) -> Layout:
-    from extractor.layout import LayoutError, load_layout
+    from certvet.extractor.layout import LayoutError, load_layout
 
     try:
         return load_layout(path)
@@ -65,8 +65,8 @@ def draft_layout_cmd(
     engine: Engine = EngineName.pdfium,
 ) -> None:
     """Draft a layout file from one sample PDF and show what was matched."""
-    from extractor.draft import draft_layout
-    from extractor.errors import InputError
+    from certvet.extractor.draft import draft_layout
+    from certvet.extractor.errors import InputError
 
     try:
         result = draft_layout(sample, engine=engine, name=name)
@@ -112,8 +112,8 @@ def preview_cmd(
     engine: OptionalEngine = None,
 ) -> None:
     """Draw what the layout reads over the pages (HTML with images, or PNG)."""
-    from extractor.errors import InputError
-    from extractor.preview import preview
+    from certvet.extractor.errors import InputError
+    from certvet.extractor.preview import preview
 
     lay = _layout(layout)
     try:
@@ -136,8 +136,8 @@ def try_layout_cmd(
     engine: OptionalEngine = None,
 ) -> None:
     """Read the PDF with the layout; print the rows and every cell that did not parse."""
-    from extractor.errors import InputError
-    from extractor.preview import rich_tables, try_layout
+    from certvet.extractor.errors import InputError
+    from certvet.extractor.preview import rich_tables, try_layout
 
     lay = _layout(layout)
     try:
@@ -171,8 +171,8 @@ def show_text_cmd(
 ) -> None:
     """Print a page's text lines as the extractor reads them, for writing label, recognise and
     header patterns. Text is printed exactly as read (never as terminal markup)."""
-    from extractor.errors import InputError
-    from extractor.show_text import page_lines
+    from certvet.extractor.errors import InputError
+    from certvet.extractor.show_text import page_lines
 
     try:
         shown = page_lines(str(pdf), pages=page or None, engine=engine.value)

@@ -13,7 +13,7 @@ from typing import TYPE_CHECKING, Any
 
 import typer
 
-from extractor.untrusted import one_line
+from certvet.extractor.untrusted import one_line
 
 if TYPE_CHECKING:
     from rich.console import Console

@@ -24,8 +24,8 @@ from collections.abc import Iterator, Sequence
 from pathlib import Path
 from typing import Any
 
+from certvet.extractor.errors import InputError
 from certvet.workers import Limits, Outcome
-from extractor.errors import InputError
 
 IN_FLIGHT_PER_WORKER = 2  # tasks submitted ahead per worker: bounds the client's memory
 

@@ -28,17 +28,17 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from certvet.workers import Outcome
-from extractor.draft_reading import (
+from certvet.extractor.draft_reading import (
     READ_THRESHOLD,
     TRUSTED_THRESHOLD,
     draft_command,
 )
-from extractor.errors import InputError
-from extractor.records import Certificate, DraftedLayoutNote
+from certvet.extractor.errors import InputError
+from certvet.extractor.records import Certificate, DraftedLayoutNote
+from certvet.workers import Outcome
 
 if TYPE_CHECKING:
-    from extractor.layout import Layout
+    from certvet.extractor.layout import Layout
 
 DRAFTS_SUBDIR = "drafted-layouts"
 
@@ -93,7 +93,7 @@ class DraftedForms:
                          ) -> tuple[Layout, Certificate] | None:
         """Read the file with a layout drafted earlier in this run that recognises it (None
         when none does; InputError when one does but cannot read it)."""
-        from extractor.api import extract_recognised
+        from certvet.extractor.api import extract_recognised
 
         shared = self.shared_layouts()
         if not shared:
@@ -107,7 +107,7 @@ class DraftedForms:
     def recognised(self, path: str, *, password: str | None) -> bool:
         """Whether a layout drafted earlier in this run recognises the file (its first pages
         only are read)."""
-        from extractor.api import recognise
+        from certvet.extractor.api import recognise
 
         return recognise(path, self.shared_layouts(), password=password) is not None
 
@@ -115,8 +115,8 @@ class DraftedForms:
               ) -> tuple[Layout, Certificate]:
         """Draft a layout from the file and read it; InputError (one line naming the file
         and what to do) when the draft cannot be used."""
-        from extractor.draft_reading import draft_and_read, safe_name
-        from extractor.engines.names import DEFAULT_ENGINE
+        from certvet.extractor.draft_reading import draft_and_read, safe_name
+        from certvet.extractor.engines.names import DEFAULT_ENGINE
 
         opts = self.options
         name = safe_name(Path(path).stem, self.reserved)

@@ -39,7 +39,7 @@ DEFAULT_FAIL_ON = "breach,impossible"  # the severities that make the exit statu
 def parse_fail_on(text: str) -> frozenset[Any]:
     """`--fail-on breach,impossible` as a set of checks.model.Severity; a ValueError with one
     line otherwise."""
-    from checks.model import Severity
+    from certvet.checks.model import Severity
 
     words = [w for w in (p.strip() for p in text.split(",")) if w]
     if not words:

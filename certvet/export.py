@@ -22,7 +22,7 @@ def export_store(store: str | Path, out: str | Path, format: str = "csv") -> lis
     """Export the corpus at `store` into the folder `out`; returns the files written.
     Raises corpus.store.CorpusError (one line naming the file) for a store that cannot be read,
     ValueError for an unknown format."""
-    from corpus.store import Corpus
+    from certvet.corpus.store import Corpus
 
     if format not in FORMATS:
         raise ValueError(f"unknown export format {format!r} (use {', '.join(FORMATS)})")
@@ -35,9 +35,9 @@ def export_store(store: str | Path, out: str | Path, format: str = "csv") -> lis
 
 def write_corpus_workbook(frames: dict[str, Any], path: Path, store: Path) -> Path:
     from certvet import __version__
-    from reports.model import CAUTIONS
-    from reports.verdict import WORDING, VerdictKey
-    from reports.xlsxout import write_workbook
+    from certvet.reports.model import CAUTIONS
+    from certvet.reports.verdict import WORDING, VerdictKey
+    from certvet.reports.xlsxout import write_workbook
 
     certs = frames["certificates"]
     if "verdict" in certs.columns:  # the key as stored, and its words as the reports print them

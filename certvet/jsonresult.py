@@ -32,9 +32,9 @@ KIND = "certvet audit result"
 def audit_result_document(summary: BatchSummary, exit_code: int) -> dict[str, Any]:
     """The `--json` document for one `certvet audit` run."""
     from certvet import __version__
+    from certvet.checks.model import Severity
     from certvet.exitcodes import MEANING, ExitCode
-    from checks.model import Severity
-    from reports.model import CAUTIONS
+    from certvet.reports.model import CAUTIONS
 
     files: list[dict[str, Any]] = []
     for r in summary.audited:

@@ -31,7 +31,7 @@ from multiprocessing.connection import Connection, wait
 from pathlib import Path
 from typing import Any, cast
 
-from extractor.errors import InputError
+from certvet.extractor.errors import InputError
 
 
 @dataclass(frozen=True)

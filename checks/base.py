@@ -14,8 +14,8 @@ from dataclasses import dataclass
 from datetime import date
 from typing import Any, ClassVar
 
-from checks.model import Finding, Severity
-from extractor.records import Board, Certificate, Circuit, Value
+from certvet.checks.model import Finding, Severity
+from certvet.extractor.records import Board, Certificate, Circuit, Value
 
 DOC_SECTIONS = (
     "What it checks",

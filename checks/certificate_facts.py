@@ -14,8 +14,8 @@ from datetime import date
 from enum import StrEnum
 from functools import cache
 
-from checks.tables import load
-from extractor.records import Certificate, ValueKind
+from certvet.checks.tables import load
+from certvet.extractor.records import Certificate, ValueKind
 
 
 class ReportKind(StrEnum):

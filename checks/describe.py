@@ -11,8 +11,8 @@ import dataclasses
 import textwrap
 from dataclasses import dataclass
 
-from checks.base import DOC_SECTIONS, Check
-from checks.registry import all_checks, get_check
+from certvet.checks.base import DOC_SECTIONS, Check
+from certvet.checks.registry import all_checks, get_check
 
 
 @dataclass(frozen=True)

@@ -16,7 +16,7 @@ import re
 from dataclasses import dataclass
 from enum import StrEnum
 
-from extractor.records import Board, Circuit, ValueKind
+from certvet.extractor.records import Board, Circuit, ValueKind
 
 
 class DeviceFamily(StrEnum):

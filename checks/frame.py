@@ -14,7 +14,7 @@ from __future__ import annotations
 from collections.abc import Iterable
 from typing import TYPE_CHECKING
 
-from checks.model import FINDING_COLUMNS, Finding, Severity
+from certvet.checks.model import FINDING_COLUMNS, Finding, Severity
 
 if TYPE_CHECKING:
     import pandas as pd

@@ -6,7 +6,7 @@ from dataclasses import dataclass, field
 from enum import IntEnum, StrEnum
 from typing import Any
 
-from extractor.records import Box
+from certvet.extractor.records import Box
 
 
 class Severity(IntEnum):

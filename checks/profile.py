@@ -30,11 +30,11 @@ from datetime import date
 from pathlib import Path
 from typing import Any
 
-from checks.base import Check
-from checks.model import Severity
-from checks.registry import all_checks
-from extractor.fields import CERTIFICATE, FIELDS
-from extractor.tomlfile import TomlProblem, parse_toml
+from certvet.checks.base import Check
+from certvet.checks.model import Severity
+from certvet.checks.registry import all_checks
+from certvet.extractor.fields import CERTIFICATE, FIELDS
+from certvet.extractor.tomlfile import TomlProblem, parse_toml
 
 
 class ProfileError(ValueError):

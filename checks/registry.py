@@ -5,7 +5,7 @@ from __future__ import annotations
 import importlib
 import pkgutil
 
-from checks.base import Check
+from certvet.checks.base import Check
 
 _REGISTRY: dict[str, type[Check]] = {}
 _LOADED = False
@@ -25,10 +25,10 @@ def _load() -> None:
     global _LOADED
     if _LOADED:
         return
-    import checks.catalogue as pkg
+    import certvet.checks.catalogue as pkg
 
     for mod in pkgutil.iter_modules(pkg.__path__):
-        importlib.import_module(f"checks.catalogue.{mod.name}")
+        importlib.import_module(f"certvet.checks.catalogue.{mod.name}")
     _LOADED = True
 
 

@@ -8,10 +8,10 @@ from collections.abc import Iterable
 from dataclasses import dataclass, field
 from datetime import date
 
-from checks.model import CheckRun, Finding, Outcome, Severity
-from checks.profile import DEFAULT_PROFILE, Profile
-from checks.registry import all_checks
-from extractor.records import Certificate
+from certvet.checks.model import CheckRun, Finding, Outcome, Severity
+from certvet.checks.profile import DEFAULT_PROFILE, Profile
+from certvet.checks.registry import all_checks
+from certvet.extractor.records import Certificate
 
 
 @dataclass

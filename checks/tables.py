@@ -14,8 +14,8 @@ from dataclasses import dataclass
 from functools import cache
 from pathlib import Path
 
-from checks.devices import Device
-from extractor.tokens import ticked_choice
+from certvet.checks.devices import Device
+from certvet.extractor.tokens import ticked_choice
 
 DATA_DIR = Path(__file__).parent / "data"
 

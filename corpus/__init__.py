@@ -1,5 +1,5 @@
 """The corpus: audited certificates in one SQLite store, and cross-certificate checks on it."""
 
-from corpus.store import CertificateRow, Corpus, CorpusError
+from certvet.corpus.store import CertificateRow, Corpus, CorpusError
 
 __all__ = ["CertificateRow", "Corpus", "CorpusError"]

@@ -21,8 +21,8 @@ import re
 from collections import Counter, defaultdict
 from dataclasses import dataclass, field
 
-from checks.base import CorpusCheck
-from checks.catalogue.across import (
+from certvet.checks.base import CorpusCheck
+from certvet.checks.catalogue.across import (
     CertificateNumberReused,
     InspectorWorkloadImplausible,
     InstrumentWorkloadImplausible,
@@ -31,10 +31,10 @@ from checks.catalogue.across import (
     ScheduleRepeatsEarlierAtAddress,
     WorkloadOptions,
 )
-from checks.model import Finding, Severity
-from checks.profile import DEFAULT_PROFILE, Profile
-from corpus.similarity import Match, compare_boards
-from corpus.store import CertificateRow, Corpus, severity_at_least
+from certvet.checks.model import Finding, Severity
+from certvet.checks.profile import DEFAULT_PROFILE, Profile
+from certvet.corpus.similarity import Match, compare_boards
+from certvet.corpus.store import CertificateRow, Corpus, severity_at_least
 
 COPIED = ScheduleCopiedFromOtherAddress.id
 REPEATED = ScheduleRepeatsEarlierAtAddress.id

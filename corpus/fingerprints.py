@@ -30,8 +30,8 @@ from typing import Any
 
 from datasketch import MinHash
 
-from extractor.records import Board, Certificate, Value, ValueKind
-from extractor.tokens import normalise_text
+from certvet.extractor.records import Board, Certificate, Value, ValueKind
+from certvet.extractor.tokens import normalise_text
 
 # Measured readings, in the order a schedule prints them.
 READING_FIELDS: tuple[str, ...] = (

@@ -17,8 +17,8 @@ from collections import defaultdict
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 
-from checks.catalogue.across import ReadingsMatchOptions
-from corpus.fingerprints import (
+from certvet.checks.catalogue.across import ReadingsMatchOptions
+from certvet.corpus.fingerprints import (
     BoardReadings,
     BoardSignature,
     CircuitReadings,

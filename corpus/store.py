@@ -28,12 +28,12 @@ from importlib import metadata
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from checks.model import CheckRun, Finding, Outcome, Severity
-from checks.profile import Profile
-from checks.runner import CheckResults
-from corpus.fingerprints import BoardReadings, certificate_readings
-from corpus.migrations import LATEST, MIGRATIONS
-from corpus.similarity import (
+from certvet.checks.model import CheckRun, Finding, Outcome, Severity
+from certvet.checks.profile import Profile
+from certvet.checks.runner import CheckResults
+from certvet.corpus.fingerprints import BoardReadings, certificate_readings
+from certvet.corpus.migrations import LATEST, MIGRATIONS
+from certvet.corpus.similarity import (
     IndexParams,
     Match,
     MatchOptions,
@@ -42,8 +42,8 @@ from corpus.similarity import (
     index_boards,
     stored_boards,
 )
-from extractor.fields import BOARD, CERTIFICATE, FIELDS, FieldSpec
-from extractor.records import (
+from certvet.extractor.fields import BOARD, CERTIFICATE, FIELDS, FieldSpec
+from certvet.extractor.records import (
     Board,
     Box,
     Cell,
@@ -54,8 +54,8 @@ from extractor.records import (
     Value,
     ValueKind,
 )
-from extractor.tokens import normalise_text, parse_value
-from extractor.untrusted import spreadsheet_cell
+from certvet.extractor.tokens import normalise_text, parse_value
+from certvet.extractor.untrusted import spreadsheet_cell
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -616,7 +616,7 @@ class Corpus:
                 "FROM check_runs WHERE cert_id = ?", (cert_id,)).fetchall()
         runs = {r[0]: CheckRun(r[0], r[1], Outcome(r[2]), r[3], r[4], json.loads(r[5]), r[6])
                 for r in rows}
-        from checks.registry import all_checks
+        from certvet.checks.registry import all_checks
 
         order = {cls.id: i for i, cls in enumerate(all_checks())}
         return sorted(runs.values(), key=lambda r: (order.get(r.check_id, len(order)), r.check_id))

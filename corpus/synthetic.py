@@ -26,9 +26,9 @@ from collections.abc import Iterator
 from dataclasses import dataclass, field
 from typing import Any
 
-from extractor.fields import BOARD, CERTIFICATE, FIELDS
-from extractor.records import Board, Cell, Certificate, Circuit
-from extractor.tokens import parse_value
+from certvet.extractor.fields import BOARD, CERTIFICATE, FIELDS
+from certvet.extractor.records import Board, Cell, Certificate, Circuit
+from certvet.extractor.tokens import parse_value
 
 _STREETS = (
     "Ashwick Lane", "Bramblecote Road", "Cinder Row", "Dunmere Close", "Elderfold Way",

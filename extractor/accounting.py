@@ -14,9 +14,9 @@ from __future__ import annotations
 
 from collections import Counter
 
-from extractor.fields import FieldKind
-from extractor.records import Box, Certificate, ExtractionProblem
-from extractor.tokens import parse_value
+from certvet.extractor.fields import FieldKind
+from certvet.extractor.records import Box, Certificate, ExtractionProblem
+from certvet.extractor.tokens import parse_value
 
 # More rows than this in one board means a missed board heading (or a table that is not the
 # schedule), not a real board: common practice, no source (large boards have a few dozen

@@ -10,16 +10,16 @@ import itertools
 from collections.abc import Iterator, Sequence
 from typing import TYPE_CHECKING
 
-from extractor.assemble import assemble, group_lines
-from extractor.engines.names import DEFAULT_ENGINE, ENGINE_NAMES
-from extractor.errors import InputError, NoLayoutMatches
-from extractor.integrity import damaged_streams
-from extractor.records import ExtractionProblem
+from certvet.extractor.assemble import assemble, group_lines
+from certvet.extractor.engines.names import DEFAULT_ENGINE, ENGINE_NAMES
+from certvet.extractor.errors import InputError, NoLayoutMatches
+from certvet.extractor.integrity import damaged_streams
+from certvet.extractor.records import ExtractionProblem
 
 if TYPE_CHECKING:
-    from extractor.engines.base import Engine, OpenDocument, PageContent
-    from extractor.layout import Layout
-    from extractor.records import Certificate
+    from certvet.extractor.engines.base import Engine, OpenDocument, PageContent
+    from certvet.extractor.layout import Layout
+    from certvet.extractor.records import Certificate
 
 UNREADABLE_SHARE = 0.5  # refuse a document when more than this share of its chars is unreadable
 
@@ -27,19 +27,19 @@ UNREADABLE_SHARE = 0.5  # refuse a document when more than this share of its cha
 def get_engine(name: str, path: str = "<engine>") -> Engine:
     """The engine for a layout's `engine` value."""
     if name == "pdfplumber":
-        from extractor.engines.plumber import PlumberEngine
+        from certvet.extractor.engines.plumber import PlumberEngine
 
         return PlumberEngine()
     if name == "pdfium":
         try:
-            from extractor.engines import pdfium
+            from certvet.extractor.engines import pdfium
         except ImportError as exc:
             raise InputError(
                 path, f"engine 'pdfium' is not available ({exc}); use engine 'pdfplumber'"
             ) from None
         return pdfium.PdfiumEngine()
     if name == "lattice":
-        from extractor.engines.lattice import LatticeEngine
+        from certvet.extractor.engines.lattice import LatticeEngine
 
         return LatticeEngine()
     raise InputError(path, f"unknown engine {name!r} (choose from {', '.join(ENGINE_NAMES)})")

@@ -26,13 +26,13 @@ from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field, replace
 from operator import attrgetter
 
-from extractor.accounting import account_boards, page_problem
-from extractor.engines.base import PageContent, Rule, Word
-from extractor.engines.words import is_unreadable
-from extractor.fields import BOARD, CERTIFICATE, FIELDS
-from extractor.layout import ColumnSpec, LabelSpec, Layout
-from extractor.patterns import compile_pattern
-from extractor.records import (
+from certvet.extractor.accounting import account_boards, page_problem
+from certvet.extractor.engines.base import PageContent, Rule, Word
+from certvet.extractor.engines.words import is_unreadable
+from certvet.extractor.fields import BOARD, CERTIFICATE, FIELDS
+from certvet.extractor.layout import ColumnSpec, LabelSpec, Layout
+from certvet.extractor.patterns import compile_pattern
+from certvet.extractor.records import (
     Board,
     Box,
     Cell,
@@ -42,7 +42,7 @@ from extractor.records import (
     Value,
     ValueKind,
 )
-from extractor.tokens import parse_value, resolve_row_marks
+from certvet.extractor.tokens import parse_value, resolve_row_marks
 
 SNAP = 1.5  # rule positions closer than this (points) are the same grid line
 HEADER_SHARE = 0.4  # share of header columns that must be found around a row-key header

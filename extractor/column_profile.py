@@ -20,9 +20,9 @@ import re
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
-from extractor.fields import FIELDS, FieldKind
-from extractor.records import Value, ValueKind
-from extractor.tokens import parse_value
+from certvet.extractor.fields import FIELDS, FieldKind
+from certvet.extractor.records import Value, ValueKind
+from certvet.extractor.tokens import parse_value
 
 NEUTRAL = {
     ValueKind.EMPTY,

@@ -26,7 +26,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from extractor.assemble import (
+from certvet.extractor.assemble import (
     Cand,
     Grid,
     Line,
@@ -34,18 +34,18 @@ from extractor.assemble import (
     group_lines,
     text_candidates,
 )
-from extractor.column_profile import Fit, fit
-from extractor.engines.base import PageContent, Word
-from extractor.errors import InputError
-from extractor.fields import CERTIFICATE, FIELDS, FieldKind
-from extractor.header_terms import (
+from certvet.extractor.column_profile import Fit, fit
+from certvet.extractor.engines.base import PageContent, Word
+from certvet.extractor.errors import InputError
+from certvet.extractor.fields import CERTIFICATE, FIELDS, FieldKind
+from certvet.extractor.header_terms import (
     BOARD_LABELS,
     CERTIFICATE_LABELS,
     EARTHING_VALUES,
     match_header,
     normalise_header,
 )
-from extractor.layout import DEFAULT_ROW_KEY_PATTERN, parse_layout
+from certvet.extractor.layout import DEFAULT_ROW_KEY_PATTERN, parse_layout
 
 ROW_KEY = re.compile(DEFAULT_ROW_KEY_PATTERN)
 LOW = 0.75  # below this confidence a choice is marked for checking
@@ -788,7 +788,7 @@ def _slug(path: str) -> str:
 
 
 def read_pages(pdf: str, engine: str = "pdfium", password: str | None = None) -> list[PageContent]:
-    from extractor.api import open_document
+    from certvet.extractor.api import open_document
 
     doc = open_document(str(pdf), engine, password)
     try:
@@ -1040,7 +1040,7 @@ def _self_check(result: DraftResult, pages: list[PageContent], main: _Table) -> 
     assembler does not find) gets its x range written as well. Two rounds at most."""
     import tomllib
 
-    from extractor.assemble import assemble
+    from certvet.extractor.assemble import assemble
 
     for _ in range(3):
         layout = parse_layout(tomllib.loads(result.toml), "<draft>")

@@ -38,12 +38,12 @@ import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 
-from extractor.assemble import group_lines
-from extractor.draft import DraftError, DraftResult, draft_layout, read_pages
-from extractor.engines.base import PageContent
-from extractor.errors import InputError
-from extractor.layout import Layout, LayoutError, parse_layout
-from extractor.records import Certificate, ValueKind
+from certvet.extractor.assemble import group_lines
+from certvet.extractor.draft import DraftError, DraftResult, draft_layout, read_pages
+from certvet.extractor.engines.base import PageContent
+from certvet.extractor.errors import InputError
+from certvet.extractor.layout import Layout, LayoutError, parse_layout
+from certvet.extractor.records import Certificate, ValueKind
 
 READ_THRESHOLD = 0.60
 TRUSTED_THRESHOLD = 0.85
@@ -158,7 +158,7 @@ def draft_and_read(
     Raises DraftError (an InputError, one line naming the file) when the file gives no draft
     or looks like no schedule of test results, and InputError when the draft reads nothing.
     """
-    from extractor.api import extract
+    from certvet.extractor.api import extract
 
     src = str(pdf)
     draft = draft_layout(src, engine, name=name, password=password)
@@ -177,7 +177,7 @@ def draft_and_read(
 def _identifies_form(src: str, layout: Layout, engine: str, password: str | None) -> bool:
     """The draft's recognise patterns match its own sample and not any text at all: only then
     may it recognise other files of the run."""
-    from extractor.api import page_text, recognises
+    from certvet.extractor.api import page_text, recognises
 
     if all(p.search(_NEUTRAL_TEXT) for p in layout.recognise.require):
         return False

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from extractor.untrusted import one_line
+from certvet.extractor.untrusted import one_line
 
 
 class InputError(Exception):

@@ -20,8 +20,8 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any
 
-from extractor.fields import CIRCUIT_FIELDS, FieldKind
-from extractor.records import Certificate, Value, ValueKind
+from certvet.extractor.fields import CIRCUIT_FIELDS, FieldKind
+from certvet.extractor.records import Certificate, Value, ValueKind
 
 if TYPE_CHECKING:
     import pandas as pd

@@ -14,10 +14,10 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from extractor.engines.names import ENGINE_NAMES
-from extractor.fields import BOARD, CERTIFICATE, FIELDS
-from extractor.patterns import UnsafePattern, compile_pattern
-from extractor.tomlfile import TomlProblem, parse_toml
+from certvet.extractor.engines.names import ENGINE_NAMES
+from certvet.extractor.fields import BOARD, CERTIFICATE, FIELDS
+from certvet.extractor.patterns import UnsafePattern, compile_pattern
+from certvet.extractor.tomlfile import TomlProblem, parse_toml
 
 ENGINES = ENGINE_NAMES
 DEFAULT_ROW_KEY_PATTERN = r"^(?:[A-Z]{0,3}\d{1,3}[A-Z]?(?:[/.-]?(?:L?[123]|[A-Z]))?)$"

@@ -22,9 +22,9 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from extractor.errors import InputError
-from extractor.layout import Layout
-from extractor.records import Box, Certificate, ValueKind
+from certvet.extractor.errors import InputError
+from certvet.extractor.layout import Layout
+from certvet.extractor.records import Box, Certificate, ValueKind
 
 SCALE = 2.0
 PALETTE = [
@@ -51,8 +51,8 @@ class PreviewResult:
 
 
 def _extract(pdf: str, layout: Layout, engine: str | None) -> tuple[Certificate | None, str]:
-    from extractor.api import extract
-    from extractor.errors import NoLayoutMatches
+    from certvet.extractor.api import extract
+    from certvet.extractor.errors import NoLayoutMatches
 
     try:
         return extract(pdf, layout, engine=engine), ""

@@ -16,9 +16,9 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
-from extractor.assemble import group_lines
-from extractor.errors import InputError
-from extractor.layout import ScheduleSpec
+from certvet.extractor.assemble import group_lines
+from certvet.extractor.errors import InputError
+from certvet.extractor.layout import ScheduleSpec
 
 LINE_TOLERANCE = ScheduleSpec().line_tolerance  # a layout's default
 
@@ -52,7 +52,7 @@ def page_lines(
 ) -> list[PageLines]:
     """The text lines of the chosen pages (all when None), top to bottom; InputError (one line)
     for a page number the PDF does not have."""
-    from extractor.api import open_document
+    from certvet.extractor.api import open_document
 
     doc = open_document(path, engine, password)
     try:

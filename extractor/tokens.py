@@ -22,8 +22,8 @@ import unicodedata
 from collections.abc import Sequence
 from dataclasses import replace
 
-from extractor.fields import FieldKind
-from extractor.records import Cell, Circuit, Value, ValueKind
+from certvet.extractor.fields import FieldKind
+from certvet.extractor.records import Cell, Circuit, Value, ValueKind
 
 # Glyphs a form may use for "confirmed" / "not confirmed". ZapfDingbats ticks are mapped to
 # these by the engines before parsing (see extractor.engines).

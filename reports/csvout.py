@@ -14,13 +14,13 @@ from collections.abc import Iterable, Sequence
 from pathlib import Path
 from typing import Any
 
-from checks.model import FINDING_COLUMNS
-from checks.runner import CheckResults
-from extractor.frame import circuit_rows, frame_columns
-from extractor.records import Box, Certificate
-from extractor.untrusted import spreadsheet_cell
-from extractor.untrusted import spreadsheet_safe as neutralise
-from reports.files import replaced_atomically
+from certvet.checks.model import FINDING_COLUMNS
+from certvet.checks.runner import CheckResults
+from certvet.extractor.frame import circuit_rows, frame_columns
+from certvet.extractor.records import Box, Certificate
+from certvet.extractor.untrusted import spreadsheet_cell
+from certvet.extractor.untrusted import spreadsheet_safe as neutralise
+from certvet.reports.files import replaced_atomically
 
 __all__ = ["neutralise", "write_csv", "write_findings_csv", "write_records_csv", "write_table"]
 

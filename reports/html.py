@@ -13,10 +13,10 @@ from pathlib import Path
 from jinja2 import Environment, FileSystemLoader, StrictUndefined
 from markupsafe import Markup
 
-from checks.profile import Profile
-from checks.runner import CheckResults
-from extractor.records import Certificate
-from reports.model import (
+from certvet.checks.profile import Profile
+from certvet.checks.runner import CheckResults
+from certvet.extractor.records import Certificate
+from certvet.reports.model import (
     SEVERITY_LEGEND,
     SEVERITY_LEGEND_NOTE,
     RelatedFinding,

@@ -44,10 +44,10 @@ from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
-from checks.model import Severity
-from checks.profile import Profile
-from checks.runner import CheckResults
-from extractor.records import (
+from certvet.checks.model import Severity
+from certvet.checks.profile import Profile
+from certvet.checks.runner import CheckResults
+from certvet.extractor.records import (
     Board,
     Box,
     Cell,
@@ -58,8 +58,8 @@ from extractor.records import (
     Value,
     ValueKind,
 )
-from reports.model import CAUTIONS, RelatedFinding
-from reports.verdict import decide
+from certvet.reports.model import CAUTIONS, RelatedFinding
+from certvet.reports.verdict import decide
 
 FORMAT_VERSION = 6
 READABLE_VERSIONS = (1, 2, 3, 4, 5, 6)

@@ -9,13 +9,13 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field, replace
 from typing import Any
 
-from checks.model import CheckRun, Finding, Outcome, Severity
-from checks.profile import Profile
-from checks.registry import get_check
-from checks.runner import CheckResults
-from extractor.fields import BOARD, CERTIFICATE, FIELDS
-from extractor.records import Board, Cell, Certificate, Circuit, ValueKind
-from reports.verdict import Verdict, decide
+from certvet.checks.model import CheckRun, Finding, Outcome, Severity
+from certvet.checks.profile import Profile
+from certvet.checks.registry import get_check
+from certvet.checks.runner import CheckResults
+from certvet.extractor.fields import BOARD, CERTIFICATE, FIELDS
+from certvet.extractor.records import Board, Cell, Certificate, Circuit, ValueKind
+from certvet.reports.verdict import Verdict, decide
 
 CAUTIONS: tuple[str, ...] = (
     "This is a desk check of the results written on a certificate. It cannot show that an "

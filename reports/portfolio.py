@@ -34,8 +34,8 @@ from pathlib import Path
 
 from markupsafe import Markup
 
-from checks.catalogue.across import ScheduleCopiedFromOtherAddress
-from reports import charts
+from certvet.checks.catalogue.across import ScheduleCopiedFromOtherAddress
+from certvet.reports import charts
 
 SEVERITY_POINTS = {"impossible": 10.0, "breach": 5.0, "query": 2.0, "note": 0.0}
 MAX_PER_CHECK = 3
@@ -431,7 +431,7 @@ def render_portfolio(data: PortfolioData, path: Path) -> Path:
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
     view = build_view(data, path)
-    from reports.html import environment
+    from certvet.reports.html import environment
 
     html = environment().get_template("portfolio.html.j2").render(v=view)
     path.write_text(html, encoding="utf-8")

@@ -14,12 +14,12 @@ from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 
-from checks.certificate_facts import report_kind
-from checks.model import Finding, Severity
-from checks.runner import CheckResults
-from extractor.records import Certificate
-from reports.model import CAUTIONS, field_label, location_text
-from reports.verdict import VerdictKey, decide
+from certvet.checks.certificate_facts import report_kind
+from certvet.checks.model import Finding, Severity
+from certvet.checks.runner import CheckResults
+from certvet.extractor.records import Certificate
+from certvet.reports.model import CAUTIONS, field_label, location_text
+from certvet.reports.verdict import VerdictKey, decide
 
 # checks whose findings tell the reader about the certificate's dates rather than its readings
 DATE_CHECKS = ("certificate-out-of-date", "next-inspection-interval", "dates-out-of-order")
@@ -192,7 +192,7 @@ def _now(generated_at: str | None) -> str:
 
 def render_summary(cert: Certificate, results: CheckResults, *, certvet_version: str,
                    generated_at: str | None = None) -> str:
-    from reports.html import environment
+    from certvet.reports.html import environment
 
     view = build_summary(cert, results, certvet_version=certvet_version,
                          generated_at=_now(generated_at))
@@ -201,7 +201,7 @@ def render_summary(cert: Certificate, results: CheckResults, *, certvet_version:
 
 def render_query_sheet(cert: Certificate, results: CheckResults, *, certvet_version: str,
                        generated_at: str | None = None) -> str:
-    from reports.html import environment
+    from certvet.reports.html import environment
 
     view = build_query_sheet(cert, results, certvet_version=certvet_version,
                              generated_at=_now(generated_at))

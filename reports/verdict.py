@@ -12,10 +12,10 @@ from __future__ import annotations
 from dataclasses import dataclass
 from enum import StrEnum
 
-from checks.catalogue.across import READINGS_MATCH_CHECKS
-from checks.model import Severity
-from checks.runner import CheckResults
-from extractor.records import Certificate, ValueKind
+from certvet.checks.catalogue.across import READINGS_MATCH_CHECKS
+from certvet.checks.model import Severity
+from certvet.checks.runner import CheckResults
+from certvet.extractor.records import Certificate, ValueKind
 
 
 class VerdictKey(StrEnum):

@@ -13,7 +13,7 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from extractor.untrusted import spreadsheet_cell
+from certvet.extractor.untrusted import spreadsheet_cell
 
 if TYPE_CHECKING:
     import pandas as pd

@@ -52,8 +52,8 @@ class Variant:
 
 def _bases() -> list[Base]:
     from certvet.api import audit_file
-    from extractor.api import recognise
-    from extractor.layout import load_layout, load_layouts
+    from certvet.extractor.api import recognise
+    from certvet.extractor.layout import load_layout, load_layouts
 
     demo_layouts = load_layouts([ROOT / "fixtures" / "layouts"])
     out = []
@@ -143,7 +143,7 @@ def _variants(bases: list[Base], count: int, seed: int, folder: Path) -> list[Va
 def _job_for(variants: dict[Path, Variant]):  # -> Callable[[Path], tuple[str, int]]
     def job(path: Path) -> tuple[str, int]:
         from certvet.api import audit_file
-        from extractor.layout import load_layout
+        from certvet.extractor.layout import load_layout
 
         v = variants[path]
         res = audit_file(path, layout=load_layout(v.base.layout), formats=())

@@ -17,7 +17,7 @@ ROOT = Path(__file__).resolve().parent.parent
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from checks.describe import markdown_table  # noqa: E402
+from certvet.checks.describe import markdown_table  # noqa: E402
 
 START = "<!-- checks-table:start -->"
 END = "<!-- checks-table:end -->"

@@ -46,7 +46,7 @@ from typing import Any
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from extractor.tokens import normalise_text  # noqa: E402
+from certvet.extractor.tokens import normalise_text  # noqa: E402
 
 # one sample per form: the PDF the draft is made from (form name → sample)
 FORM_SAMPLES: dict[str, str] = {
@@ -175,9 +175,9 @@ def _unread(truth: dict[str, Any], why: str) -> Score:
 
 
 def measure_layout(pdf: str, layout_path: str | Path, engine: str | None = None) -> Score:
-    from extractor.api import extract
-    from extractor.errors import InputError
-    from extractor.layout import load_layout
+    from certvet.extractor.api import extract
+    from certvet.extractor.errors import InputError
+    from certvet.extractor.layout import load_layout
 
     truth = load_truth(ROOT / pdf)
     try:
@@ -197,7 +197,7 @@ class FormResult:
 
 
 def measure_form(pdf: str, engine: str = "pdfium") -> FormResult:
-    from extractor.draft import draft_layout
+    from certvet.extractor.draft import draft_layout
 
     truth = load_truth(ROOT / pdf)
     result = draft_layout(ROOT / pdf, engine=engine)
@@ -219,7 +219,7 @@ def read_without_layout(pdf: str) -> Any | None:
     given (a layout drafted from the file itself), and return the Certificate, or None when it
     is refused (no draft, or a draft below the read threshold)."""
     from certvet.api import audit_file
-    from extractor.errors import InputError
+    from certvet.extractor.errors import InputError
 
     try:
         return audit_file(pdf, layouts=[]).certificate
@@ -248,9 +248,9 @@ def draft_all(
 ) -> dict[str, Any]:
     """form → its unedited draft Layout (or the DraftError text), drafted from `samples`
     (default FORM_SAMPLES)."""
-    from extractor.draft import draft_layout
-    from extractor.errors import InputError
-    from extractor.layout import load_layout
+    from certvet.extractor.draft import draft_layout
+    from certvet.extractor.errors import InputError
+    from certvet.extractor.layout import load_layout
 
     drafts: dict[str, Any] = {}
     with tempfile.TemporaryDirectory() as tmp:
@@ -276,8 +276,8 @@ def measure_all(
     """Part 2: draft one sample per form, then read every certificate with the drafts.
     `forms` (default: every fixture form) limits the certificates read, `samples` (default
     FORM_SAMPLES) names the certificate each form's draft is made from."""
-    from extractor.api import _first_recognising, extract, page_text
-    from extractor.errors import InputError
+    from certvet.extractor.api import _first_recognising, extract, page_text
+    from certvet.extractor.errors import InputError
 
     forms = forms or certificates_by_form()
     samples = samples or FORM_SAMPLES
@@ -365,8 +365,8 @@ def main(argv: list[str] | None = None) -> int:
             for w in fig.read.wrong:
                 print(f"    {w}")
     print("\nPDFs that are no certificate (the drafter must refuse them)")
-    from extractor.draft import draft_layout
-    from extractor.errors import InputError
+    from certvet.extractor.draft import draft_layout
+    from certvet.extractor.errors import InputError
 
     for pdf in NOT_CERTIFICATES:
         try:

@@ -11,9 +11,9 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from extractor.fields import BOARD, CERTIFICATE, FIELDS
-from extractor.records import Board, Cell, Certificate, Circuit, ExtractionProblem
-from extractor.tokens import parse_value, resolve_row_marks
+from certvet.extractor.fields import BOARD, CERTIFICATE, FIELDS
+from certvet.extractor.records import Board, Cell, Certificate, Circuit, ExtractionProblem
+from certvet.extractor.tokens import parse_value, resolve_row_marks
 
 CASES_DIR = Path(__file__).parent / "cases"
 

@@ -8,10 +8,10 @@ from pathlib import Path
 
 import pytest
 
-from extractor.engines.base import PageContent
-from extractor.engines.pdfium import PdfiumEngine
-from extractor.engines.plumber import PlumberEngine
-from extractor.records import Box, Certificate
+from certvet.extractor.engines.base import PageContent
+from certvet.extractor.engines.pdfium import PdfiumEngine
+from certvet.extractor.engines.plumber import PlumberEngine
+from certvet.extractor.records import Box, Certificate
 
 
 def box_row(box: Box | None) -> tuple[float, ...] | None:

@@ -19,10 +19,10 @@ from certvet.api import NotRecognised, audit_file, audit_many
 from certvet.batch import Status, run_batch
 from certvet.cli import app
 from certvet.drafting import DraftedForms, DraftOptions, SharedDraft
-from extractor.errors import InputError
-from extractor.layout import load_layout
-from extractor.records import DraftedLayoutNote
-from reports.verdict import VerdictKey
+from certvet.extractor.errors import InputError
+from certvet.extractor.layout import load_layout
+from certvet.extractor.records import DraftedLayoutNote
+from certvet.reports.verdict import VerdictKey
 
 ROOT = Path(__file__).resolve().parents[1]
 _spec = importlib.util.spec_from_file_location("layout_accuracy",
@@ -282,7 +282,7 @@ def test_cli_batch_with_no_layout(tmp_path: Path) -> None:
 def test_the_store_keeps_the_drafted_layout_note(tmp_path: Path) -> None:
     # a verdict decided again from the store (cross-certificate phase) must still see it
     from certvet.batch import decide_again
-    from corpus.store import Corpus
+    from certvet.corpus.store import Corpus
 
     res = audit_file(DEMO / "grid-clean-01.pdf", layouts=[],
                      drafting=DraftOptions(trusted_threshold=0.95))

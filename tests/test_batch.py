@@ -246,7 +246,7 @@ class _RemoteJob:  # what remote_audit needs of an AuditJob: a dataclass with th
 
 def test_report_write_error_pickles_with_its_class_and_message() -> None:
     from certvet.api import ReportWriteError
-    from extractor.errors import InputError, NoLayoutMatches
+    from certvet.extractor.errors import InputError, NoLayoutMatches
 
     for exc in (ReportWriteError("a b.pdf", "cannot write its reports to out: Read-only"),
                 InputError("x.pdf", "not a PDF"), NoLayoutMatches("y.pdf", "no layout")):
@@ -290,9 +290,9 @@ def test_dask_client_that_cannot_write_the_reports_fails_the_file(tmp_path: Path
 def test_store_outcome_does_not_store_a_report_write_failure(tmp_path: Path) -> None:
     from certvet.api import ReportWriteError
     from certvet.batch import _store_outcome
+    from certvet.corpus.store import Corpus
+    from certvet.extractor.errors import InputError
     from certvet.workers import Outcome
-    from corpus.store import Corpus
-    from extractor.errors import InputError
 
     pdf = tmp_path / "c.pdf"
     err = ReportWriteError(str(pdf), "cannot write its reports to out: Read-only file system")

@@ -7,9 +7,9 @@ import re
 
 import pytest
 
-from checks.base import BASES, DOC_SECTIONS
-from checks.model import Severity
-from checks.registry import all_checks
+from certvet.checks.base import BASES, DOC_SECTIONS
+from certvet.checks.model import Severity
+from certvet.checks.registry import all_checks
 
 CHECKS = all_checks()
 

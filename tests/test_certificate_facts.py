@@ -9,9 +9,9 @@ from datetime import date
 import pytest
 from casekit import make_certificate
 
-from checks import tables
-from checks.catalogue.bonding import pme_min_bonding
-from checks.certificate_facts import (
+from certvet.checks import tables
+from certvet.checks.catalogue.bonding import pme_min_bonding
+from certvet.checks.certificate_facts import (
     Applies,
     ReportKind,
     edition,
@@ -24,8 +24,8 @@ from checks.certificate_facts import (
     requirement_applies,
     tables_edition,
 )
-from checks.profile import DEFAULT_PROFILE, ProfileError, parse_profile
-from checks.runner import run_checks
+from certvet.checks.profile import DEFAULT_PROFILE, ProfileError, parse_profile
+from certvet.checks.runner import run_checks
 
 
 @pytest.mark.parametrize(("text", "expected"), [

@@ -7,8 +7,8 @@ from datetime import date
 import pytest
 from casekit import Case, load_cases
 
-from checks.model import Severity
-from checks.registry import all_checks, get_check
+from certvet.checks.model import Severity
+from certvet.checks.registry import all_checks, get_check
 
 CASES = load_cases()
 

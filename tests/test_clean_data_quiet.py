@@ -13,8 +13,8 @@ import random
 
 from casekit import make_certificate
 
-from checks.registry import all_checks
-from extractor.records import Certificate
+from certvet.checks.registry import all_checks
+from certvet.extractor.records import Certificate
 
 GROUPS = {"ring", "radial", "loop", "supply"}
 B32, B6 = 1.37, 7.28  # BS 7671:2018+A2:2022 Table 41.3

@@ -9,17 +9,17 @@ import pandas as pd
 import pytest
 from casekit import make_certificate
 
-import corpus.store as store_mod
-from checks.profile import DEFAULT_PROFILE
-from checks.runner import CheckResults, run_checks
-from corpus import Corpus, CorpusError
-from corpus.fingerprints import LshParams
-from corpus.migrations import LATEST
-from corpus.similarity import IndexParams
-from corpus.store import normalise_address, parse_date
-from corpus.synthetic import generate
-from extractor.fields import BOARD_FIELDS, CERTIFICATE_FIELDS, CIRCUIT_FIELDS
-from extractor.records import Box, Cell
+import certvet.corpus.store as store_mod
+from certvet.checks.profile import DEFAULT_PROFILE
+from certvet.checks.runner import CheckResults, run_checks
+from certvet.corpus import Corpus, CorpusError
+from certvet.corpus.fingerprints import LshParams
+from certvet.corpus.migrations import LATEST
+from certvet.corpus.similarity import IndexParams
+from certvet.corpus.store import normalise_address, parse_date
+from certvet.corpus.synthetic import generate
+from certvet.extractor.fields import BOARD_FIELDS, CERTIFICATE_FIELDS, CIRCUIT_FIELDS
+from certvet.extractor.records import Box, Cell
 
 TABLES = ("files", "certificates", "boards", "circuits", "findings", "check_runs",
           "board_readings", "block_fingerprints", "lsh_bands")
@@ -213,8 +213,8 @@ def test_normalisation() -> None:
 
 
 def test_version_1_store_gains_the_profile_columns(tmp_path: Path) -> None:
-    from corpus.migrations import MIGRATIONS
-    from corpus.store import _statements
+    from certvet.corpus.migrations import MIGRATIONS
+    from certvet.corpus.store import _statements
 
     path = tmp_path / "v1.sqlite"
     conn = sqlite3.connect(path)

@@ -16,12 +16,12 @@ from typing import Any
 import pytest
 from casekit import make_certificate
 
-from checks.model import Severity
-from checks.profile import CheckSettings, Profile
-from checks.registry import all_checks
-from checks.runner import CheckResults
-from corpus import Corpus
-from corpus.crosscheck import CROSS_CHECKS, scan
+from certvet.checks.model import Severity
+from certvet.checks.profile import CheckSettings, Profile
+from certvet.checks.registry import all_checks
+from certvet.checks.runner import CheckResults
+from certvet.corpus import Corpus
+from certvet.corpus.crosscheck import CROSS_CHECKS, scan
 
 CASES_DIR = Path(__file__).parent / "corpus_cases"
 

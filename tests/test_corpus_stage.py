@@ -23,10 +23,10 @@ from typer.testing import CliRunner
 
 from certvet.api import DEMO_DIR, DEMO_LAYOUTS, load_layouts
 from certvet.batch import Status, run_batch
+from certvet.checks.model import Severity
 from certvet.cli import app
-from checks.model import Severity
-from corpus import Corpus, CorpusError
-from reports.portfolio import build_view
+from certvet.corpus import Corpus, CorpusError
+from certvet.reports.portfolio import build_view
 
 CLEAN, COPIED, FAULTY = "grid-clean-01", "grid-copied-07", "grid-faulty-03"
 COPIED_CHECK = "schedule-copied-from-other-address"

@@ -7,10 +7,10 @@ from pathlib import Path
 import pytest
 from casekit import make_certificate
 
-from checks.profile import DEFAULT_PROFILE, CheckSettings, Profile
-from checks.runner import CheckResults
-from corpus import Corpus
-from corpus.crosscheck import (
+from certvet.checks.profile import DEFAULT_PROFILE, CheckSettings, Profile
+from certvet.checks.runner import CheckResults
+from certvet.corpus import Corpus
+from certvet.corpus.crosscheck import (
     COPIED,
     INSPECTOR_WORKLOAD,
     INSTRUMENT_WORKLOAD,
@@ -20,8 +20,8 @@ from corpus.crosscheck import (
     scan,
     workload,
 )
-from corpus.fingerprints import GRID, Reading, quantise, relation
-from corpus.synthetic import CertificateStream, generate
+from certvet.corpus.fingerprints import GRID, Reading, quantise, relation
+from certvet.corpus.synthetic import CertificateStream, generate
 
 EMPTY = CheckResults(DEFAULT_PROFILE)
 

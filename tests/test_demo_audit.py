@@ -15,7 +15,7 @@ import pytest
 
 from certvet.api import DEMO_DIR, audit_file, demo_inputs
 from certvet.batch import run_batch
-from corpus import crosscheck
+from certvet.corpus import crosscheck
 
 DEMO = sorted(DEMO_DIR.glob("*.pdf"))
 CROSS_CHECKS = {

@@ -8,9 +8,9 @@ from pathlib import Path
 
 import pytest
 
-from checks.base import DOC_SECTIONS
-from checks.describe import catalogue_rows, explain_check, markdown_table
-from checks.registry import all_checks
+from certvet.checks.base import DOC_SECTIONS
+from certvet.checks.describe import catalogue_rows, explain_check, markdown_table
+from certvet.checks.registry import all_checks
 
 ROOT = Path(__file__).resolve().parent.parent
 

@@ -10,9 +10,9 @@ from pathlib import Path
 
 import pytest
 
-from extractor.draft import DraftError, draft_layout
-from extractor.header_terms import match_header
-from extractor.layout import load_layout, parse_layout
+from certvet.extractor.draft import DraftError, draft_layout
+from certvet.extractor.header_terms import match_header
+from certvet.extractor.layout import load_layout, parse_layout
 
 ROOT = Path(__file__).resolve().parents[1]
 _spec = importlib.util.spec_from_file_location(
@@ -319,7 +319,7 @@ def test_heading_and_contents_that_disagree_lower_the_confidence(tmp_path: Path)
     ],
 )
 def test_value_profile(field: str, values: list[str], fits: bool) -> None:
-    from extractor.column_profile import fit
+    from certvet.extractor.column_profile import fit
 
     assert (fit(field, values).share >= 0.8) is fits
 
@@ -349,7 +349,7 @@ def test_two_level_header_with_the_same_labels_under_two_groups() -> None:
 
 
 def test_drafted_recognition_is_fixed_wording_checked_against_the_sample() -> None:
-    from extractor.api import page_text, recognise
+    from certvet.extractor.api import page_text, recognise
 
     pdf = ROOT / "fixtures/forms_new/stacked-canvas-02.pdf"
     res = draft_layout(pdf)

@@ -22,8 +22,8 @@ from pathlib import Path
 import pytest
 from recordkit import assert_engines_agree, engine_pages, record_rows
 
-from extractor.api import extract
-from extractor.layout import load_layout
+from certvet.extractor.api import extract
+from certvet.extractor.layout import load_layout
 
 ROOT = Path(__file__).resolve().parents[1]
 TRUTHED = sorted(

@@ -6,9 +6,9 @@ from pathlib import Path
 
 from casekit import make_certificate
 
-from checks.model import Outcome, Severity
-from checks.profile import load_profile
-from checks.runner import run_checks
+from certvet.checks.model import Outcome, Severity
+from certvet.checks.profile import load_profile
+from certvet.checks.runner import run_checks
 
 PROFILE = Path(__file__).resolve().parents[1] / "fixtures" / "profiles" / "strict-desk-audit.toml"
 

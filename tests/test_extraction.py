@@ -14,14 +14,14 @@ from typing import Any
 import pytest
 from pdfs_for_tests import build_grid, build_plain
 
-from extractor.api import extract, open_document, page_text, recognise
-from extractor.assemble import assemble
-from extractor.engines.base import ZAPF_DINGBATS
-from extractor.engines.words import Char, build_words, is_unreadable
-from extractor.errors import InputError, NoLayoutMatches
-from extractor.layout import load_layout, parse_layout
-from extractor.records import Certificate, ValueKind
-from extractor.tokens import normalise_text
+from certvet.extractor.api import extract, open_document, page_text, recognise
+from certvet.extractor.assemble import assemble
+from certvet.extractor.engines.base import ZAPF_DINGBATS
+from certvet.extractor.engines.words import Char, build_words, is_unreadable
+from certvet.extractor.errors import InputError, NoLayoutMatches
+from certvet.extractor.layout import load_layout, parse_layout
+from certvet.extractor.records import Certificate, ValueKind
+from certvet.extractor.tokens import normalise_text
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO = ROOT / "fixtures" / "demo"
@@ -124,7 +124,7 @@ def page_sizes(path: Path) -> dict[int, tuple[float, float]]:
 def _layout_for(truth_path: Path, truth: dict[str, Any]):
     if truth.get("layout"):
         return load_layout(ROOT / truth["layout"])
-    from extractor.layout import load_layouts
+    from certvet.extractor.layout import load_layouts
 
     found = recognise(str(_pdf_for(truth_path)), load_layouts([LAYOUTS]))
     assert found is not None, f"{truth_path.name}: no layout recognises it"

@@ -68,7 +68,7 @@ def test_generated_pdfs_print_the_invented_data() -> None:
 
 
 def test_synthetic_corpus_follows_the_convention() -> None:
-    from corpus.synthetic import generate
+    from certvet.corpus.synthetic import generate
 
     certs, _ = generate(40, seed=3)
     for cert in certs:

@@ -10,7 +10,7 @@ from pathlib import Path
 
 import pytest
 
-from extractor.layout import load_layout
+from certvet.extractor.layout import load_layout
 
 ROOT = Path(__file__).resolve().parents[1]
 FIXTURES = ROOT / "fixtures"
@@ -40,13 +40,13 @@ NAMES = [
 
 def cross_checks() -> set[str]:
     """Checks that compare certificates with each other (found by a batch, not one audit)."""
-    from corpus import crosscheck as x
+    from certvet.corpus import crosscheck as x
 
     return {x.COPIED, x.REPEATED, x.NUMBER_REUSED, x.INSPECTOR_WORKLOAD, x.INSTRUMENT_WORKLOAD}
 
 
 def known_checks() -> set[str]:
-    from checks.registry import all_checks
+    from certvet.checks.registry import all_checks
 
     return {c.id for c in all_checks()} | cross_checks()
 
@@ -355,8 +355,8 @@ def test_each_planted_fault_breaks_a_rule(name: str) -> None:
 
 @pytest.mark.parametrize("name", NAMES)
 def test_extractor_reads_the_truth_and_checks_find_exactly_the_faults(name: str) -> None:
-    from checks.runner import run_checks
-    from extractor.api import extract
+    from certvet.checks.runner import run_checks
+    from certvet.extractor.api import extract
 
     t = truth(name)
     cert = extract(str(ROOT / t["pdf"]), load_layout(ROOT / t["layout"]))

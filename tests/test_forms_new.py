@@ -13,8 +13,8 @@ from pathlib import Path
 import pytest
 
 from certvet.api import audit_file
-from extractor.api import page_text, recognise
-from extractor.layout import load_layout, load_layouts
+from certvet.extractor.api import page_text, recognise
+from certvet.extractor.layout import load_layout, load_layouts
 
 ROOT = Path(__file__).resolve().parents[1]
 NEW = ROOT / "fixtures" / "forms_new"
@@ -46,7 +46,7 @@ def test_every_form_has_four_certificates_with_different_details() -> None:
 
 @pytest.mark.parametrize("pdf", PDFS, ids=lambda p: p.stem)
 def test_final_layout_reads_every_cell(pdf: Path) -> None:
-    from extractor.api import extract
+    from certvet.extractor.api import extract
 
     truth = _truth(pdf)
     cert = extract(str(pdf), load_layout(ROOT / truth["layout"]))
@@ -83,8 +83,8 @@ def test_clean_certificates_audit_with_no_findings(pdf: Path) -> None:
 def test_a2_columns_are_read_as_typed_values() -> None:
     """RCD BS (EN) and rating, insulation N-E and AFDD button (twolevel-html), SPD type and
     indicator (rotated-sheet) arrive as typed values."""
-    from extractor.api import extract
-    from extractor.records import ValueKind
+    from certvet.extractor.api import extract
+    from certvet.extractor.records import ValueKind
 
     html = extract(
         str(NEW / "twolevel-html-01.pdf"), load_layout(NEW / "layouts/twolevel-html.toml")

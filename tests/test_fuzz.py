@@ -13,10 +13,10 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from extractor.fields import BOARD, CERTIFICATE, FIELDS, FieldKind
-from extractor.layout import Layout, LayoutError, parse_layout
-from extractor.records import Value, ValueKind
-from extractor.tokens import normalise_text, parse_value, ticked_choice
+from certvet.extractor.fields import BOARD, CERTIFICATE, FIELDS, FieldKind
+from certvet.extractor.layout import Layout, LayoutError, parse_layout
+from certvet.extractor.records import Value, ValueKind
+from certvet.extractor.tokens import normalise_text, parse_value, ticked_choice
 
 EXAMPLES = int(os.environ.get("CERTVET_FUZZ_EXAMPLES", "1000"))
 FUZZ = settings(max_examples=EXAMPLES, deadline=None,

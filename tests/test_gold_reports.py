@@ -20,8 +20,8 @@ from pathlib import Path
 import pytest
 
 from certvet.api import DEMO_DIR, audit_file, demo_inputs
-from reports.html import render_html
-from reports.jsonout import report_dict
+from certvet.reports.html import render_html
+from certvet.reports.jsonout import report_dict
 
 GOLD = Path(__file__).parent / "gold"
 CASES = ["grid-faulty-03", "plain-clean-04"]

@@ -15,9 +15,9 @@ from pathlib import Path
 import pytest
 
 from certvet.api import AuditResult, audit_file
-from extractor.errors import InputError
-from extractor.layout import LayoutError, load_layout
-from reports.verdict import VerdictKey
+from certvet.extractor.errors import InputError
+from certvet.extractor.layout import LayoutError, load_layout
+from certvet.reports.verdict import VerdictKey
 
 HOSTILE = Path(__file__).resolve().parents[1] / "fixtures" / "hostile"
 EXPECTED = json.loads((HOSTILE / "expected.json").read_text(encoding="utf-8"))
@@ -255,7 +255,7 @@ def test_audit_has_the_batch_limits_on_resident_memory(tmp_path: Path) -> None:
 
 @pytest.mark.parametrize("name", sorted(EXPECTED["profiles"]))
 def test_hostile_profile(name: str) -> None:
-    from checks.profile import ProfileError, load_profile
+    from certvet.checks.profile import ProfileError, load_profile
 
     path = HOSTILE / "profiles" / name
     with pytest.raises(ProfileError) as info:
@@ -310,7 +310,7 @@ def test_a_huge_schedule_gives_a_bounded_usable_report(tmp_path: Path) -> None:
     """6,600 rows in one board (its heading pattern never matched): flagged as a problem, and
     the HTML report lists at most SHOWN_ROWS rows (circuits with findings first), says how
     many it left out, and stays a few MB (it was hundreds)."""
-    from reports.model import SHOWN_ROWS
+    from certvet.reports.model import SHOWN_ROWS
 
     layout = load_layout(HOSTILE / "layouts" / "hostile-grid.toml")
     result = audit_file(HOSTILE / "three-hundred-pages-board-heading-missed.pdf", layout=layout,

@@ -17,8 +17,8 @@ from typing import Any
 import pytest
 from casekit import make_certificate
 
-from checks.runner import run_checks
-from extractor.records import Certificate
+from certvet.checks.runner import run_checks
+from certvet.extractor.records import Certificate
 
 HERE = Path(__file__).resolve().parent
 INSTALLATIONS = sorted((HERE.parent / "fixtures" / "installations").glob("*.truth.json"))

@@ -6,7 +6,7 @@ from __future__ import annotations
 
 import zlib
 
-from extractor.integrity import damaged_streams
+from certvet.extractor.integrity import damaged_streams
 
 
 def _compressed_ending_in(last: bytes) -> bytes:

@@ -7,8 +7,8 @@ from pathlib import Path
 
 import pytest
 
-from extractor.api import extract, open_document
-from extractor.layout import load_layout
+from certvet.extractor.api import extract, open_document
+from certvet.extractor.layout import load_layout
 
 ROOT = Path(__file__).resolve().parents[1]
 RULED = [
@@ -52,7 +52,7 @@ def test_lattice_words_are_camelot_cells() -> None:
 
 
 def test_lattice_rejects_a_non_pdf(tmp_path: Path) -> None:
-    from extractor.errors import InputError
+    from certvet.extractor.errors import InputError
 
     p = tmp_path / "x.pdf"
     p.write_text("hello")

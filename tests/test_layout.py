@@ -7,7 +7,7 @@ from pathlib import Path
 
 import pytest
 
-from extractor.layout import LayoutError, load_layout, parse_layout
+from certvet.extractor.layout import LayoutError, load_layout, parse_layout
 
 GOOD = r"""
 [form]

@@ -7,7 +7,7 @@ import json
 from pathlib import Path
 
 from certvet.api import audit_file, load_layouts
-from checks.frame import findings_columns, findings_frame
+from certvet.checks.frame import findings_columns, findings_frame
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "fixtures" / "demo"

@@ -16,8 +16,8 @@ from test_batch import (  # noqa: F401 (fixture)
 )
 
 from certvet.batch import write_portfolio
-from corpus.store import Corpus
-from reports.portfolio import CertInput, LinkInput, PortfolioData, render_portfolio, risk
+from certvet.corpus.store import Corpus
+from certvet.reports.portfolio import CertInput, LinkInput, PortfolioData, render_portfolio, risk
 
 
 class Page(HTMLParser):

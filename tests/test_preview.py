@@ -9,8 +9,8 @@ from pathlib import Path
 from typer.testing import CliRunner
 
 from certvet.cli_layouts import app
-from extractor.layout import load_layout
-from extractor.preview import preview, try_layout
+from certvet.extractor.layout import load_layout
+from certvet.extractor.preview import preview, try_layout
 
 ROOT = Path(__file__).resolve().parents[1]
 LEDGER = ROOT / "fixtures/forms_extra/ledger-sample.pdf"

@@ -7,9 +7,9 @@ from pathlib import Path
 import pytest
 from casekit import make_certificate
 
-from checks.model import Outcome, Severity
-from checks.profile import DEFAULT_PROFILE, ProfileError, load_profile, parse_profile
-from checks.runner import run_checks
+from certvet.checks.model import Outcome, Severity
+from certvet.checks.profile import DEFAULT_PROFILE, ProfileError, load_profile, parse_profile
+from certvet.checks.runner import run_checks
 
 # A socket ring on an RCBO with a blank test-button cell, and an IR of 3 MΩ.
 # 3 MΩ passes BS 7671:2018+A2:2022 Table 64 (1 MΩ at 500 V) and the 2 MΩ investigation level
@@ -116,7 +116,7 @@ def test_negative_option_is_refused(tmp_path) -> None:
     # A negative tolerance would flag every ring: refused at load time, naming file and key.
     import pytest
 
-    from checks.profile import ProfileError, load_profile
+    from certvet.checks.profile import ProfileError, load_profile
 
     p = tmp_path / "neg.toml"
     p.write_text("[checks.ring-rn-matches-r1]\ntolerance_ohm = -1\n", encoding="utf-8")

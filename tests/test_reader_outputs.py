@@ -7,9 +7,14 @@ from pathlib import Path
 
 from casekit import make_certificate
 
-from checks.runner import run_checks
-from extractor.records import Certificate
-from reports.readers import build_query_sheet, build_summary, write_query_sheet, write_summary
+from certvet.checks.runner import run_checks
+from certvet.extractor.records import Certificate
+from certvet.reports.readers import (
+    build_query_sheet,
+    build_summary,
+    write_query_sheet,
+    write_summary,
+)
 
 AUDIT = date(2026, 12, 1)
 

@@ -12,8 +12,8 @@ import pytest
 from test_reader_outputs import _faulty
 from test_report_browser import _chromium, _run
 
-from checks.runner import run_checks
-from reports.readers import write_query_sheet, write_summary
+from certvet.checks.runner import run_checks
+from certvet.reports.readers import write_query_sheet, write_summary
 
 pytestmark = pytest.mark.browser
 

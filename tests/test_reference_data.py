@@ -11,8 +11,14 @@ from decimal import ROUND_HALF_DOWN, ROUND_HALF_UP, Decimal
 import pytest
 from casekit import make_certificate
 
-from checks import tables
-from checks.devices import CircuitKind, DeviceFamily, circuit_kind, parse_device, rcd_protection
+from certvet.checks import tables
+from certvet.checks.devices import (
+    CircuitKind,
+    DeviceFamily,
+    circuit_kind,
+    parse_device,
+    rcd_protection,
+)
 
 # --- IEC 60228 Table 2: plain copper, mΩ/m at 20 °C ------------------------------------------
 IEC_60228 = [
@@ -328,7 +334,7 @@ def test_board_rcd_ways(ways: str, ref: str, covered: bool) -> None:
 
 def test_one_rcd_definition_for_loop_and_rcd_checks() -> None:
     """The loop checks and the RCD checks ask the same helper (issue 11 item 5)."""
-    from checks.catalogue import loop, rcd
+    from certvet.checks.catalogue import loop, rcd
 
     cert = make_certificate([{"circuit_ref": "2", "device_type": "B", "rating": "32"}],
                             board={"board_rcd_idn": "30", "board_rcd_ways": "1-4"})

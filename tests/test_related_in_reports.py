@@ -22,10 +22,10 @@ from test_reports import IMG, SCRIPT, certificate, parse, results
 
 from certvet.api import DEMO_DIR, DEMO_LAYOUTS, load_layouts
 from certvet.batch import Status, run_batch
-from checks.model import Finding, Severity
-from reports.html import render_html
-from reports.jsonout import certificate_from_json, report_dict
-from reports.model import OtherCertificate, PairedValue, RelatedFinding
+from certvet.checks.model import Finding, Severity
+from certvet.reports.html import render_html
+from certvet.reports.jsonout import certificate_from_json, report_dict
+from certvet.reports.model import OtherCertificate, PairedValue, RelatedFinding
 
 REPO = Path(__file__).resolve().parents[1]
 CLEAN, COPIED, FAULTY = "grid-clean-01", "grid-copied-07", "grid-faulty-03"
@@ -199,7 +199,7 @@ def test_rewritten_report_keeps_the_profile_the_certificate_was_audited_with(
     """Audited with the strict profile; a later run with the default profile adds a copy of
     grid-faulty-03 (same number: a new cross finding for the stored certificate), whose
     re-written reports still name the strict profile and its settings."""
-    from checks.profile import load_profile
+    from certvet.checks.profile import load_profile
 
     faulty = "grid-faulty-03"
     demo = tmp_path / "demo"

@@ -14,8 +14,8 @@ from pathlib import Path
 import pytest
 from casekit import make_certificate
 
-from checks.runner import run_checks
-from reports.html import write_html
+from certvet.checks.runner import run_checks
+from certvet.reports.html import write_html
 
 pytestmark = pytest.mark.browser
 

@@ -13,16 +13,16 @@ from pathlib import Path
 import pytest
 from casekit import make_certificate
 
-from checks.model import FINDING_COLUMNS, Finding, Outcome, Severity
-from checks.profile import CheckSettings, Profile
-from checks.runner import CheckResults, run_checks
-from extractor.frame import circuits_frame, frame_columns
-from extractor.records import Box, Cell, Certificate, ExtractionProblem
-from reports.csvout import neutralise, write_csv
-from reports.html import render_html, write_html
-from reports.jsonout import FORMAT_VERSION, certificate_from_json, report_dict, write_json
-from reports.model import CAUTIONS
-from reports.verdict import WORDING, VerdictKey, decide
+from certvet.checks.model import FINDING_COLUMNS, Finding, Outcome, Severity
+from certvet.checks.profile import CheckSettings, Profile
+from certvet.checks.runner import CheckResults, run_checks
+from certvet.extractor.frame import circuits_frame, frame_columns
+from certvet.extractor.records import Box, Cell, Certificate, ExtractionProblem
+from certvet.reports.csvout import neutralise, write_csv
+from certvet.reports.html import render_html, write_html
+from certvet.reports.jsonout import FORMAT_VERSION, certificate_from_json, report_dict, write_json
+from certvet.reports.model import CAUTIONS
+from certvet.reports.verdict import WORDING, VerdictKey, decide
 
 SCRIPT = "<script>alert(1)</script>"
 IMG = '<img src=x onerror="alert(2)">'

@@ -21,10 +21,10 @@ from pathlib import Path
 import pytest
 from recordkit import assert_engines_agree, record_rows
 
-from checks.runner import run_checks
-from extractor.api import extract
-from extractor.layout import Layout, load_layout
-from extractor.records import Certificate
+from certvet.checks.runner import run_checks
+from certvet.extractor.api import extract
+from certvet.extractor.layout import Layout, load_layout
+from certvet.extractor.records import Certificate
 
 ROOT = Path(__file__).resolve().parents[1]
 HERE = ROOT / "fixtures" / "reprint"

@@ -7,8 +7,8 @@ from pathlib import Path
 from typer.testing import CliRunner
 
 from certvet.cli import app
-from extractor.api import page_text
-from extractor.show_text import page_lines
+from certvet.extractor.api import page_text
+from certvet.extractor.show_text import page_lines
 
 ROOT = Path(__file__).resolve().parents[1]
 GRID = ROOT / "fixtures/demo/grid-clean-01.pdf"

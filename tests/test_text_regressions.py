@@ -17,10 +17,10 @@ from pathlib import Path
 import pytest
 from recordkit import assert_engines_agree
 
-from extractor.engines.base import ZAPF_DINGBATS
-from extractor.engines.pdfium import PdfiumEngine
-from extractor.engines.plumber import PlumberEngine
-from extractor.engines.words import GAP_FACTOR, Char, build_words
+from certvet.extractor.engines.base import ZAPF_DINGBATS
+from certvet.extractor.engines.pdfium import PdfiumEngine
+from certvet.extractor.engines.plumber import PlumberEngine
+from certvet.extractor.engines.words import GAP_FACTOR, Char, build_words
 
 ROOT = Path(__file__).resolve().parents[1]
 HERE = ROOT / "fixtures" / "text_regressions"

@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import pytest
 
-from extractor.fields import FieldKind
-from extractor.records import Cell, Circuit, ValueKind
-from extractor.tokens import normalise_text, parse_value, resolve_row_marks, ticked_choice
+from certvet.extractor.fields import FieldKind
+from certvet.extractor.records import Cell, Circuit, ValueKind
+from certvet.extractor.tokens import normalise_text, parse_value, resolve_row_marks, ticked_choice
 
 N, T, C = FieldKind.NUMBER, FieldKind.TEXT, FieldKind.CONFIRM
 K = ValueKind
@@ -135,7 +135,7 @@ def test_real_schedule_tokens(raw: str, unit: str, want: ValueKind, number: floa
 
 
 def _board(rows: list[dict[str, str]]) -> list[Circuit]:
-    from extractor.fields import FIELDS
+    from certvet.extractor.fields import FIELDS
 
     out = []
     for i, row in enumerate(rows):

@@ -19,11 +19,11 @@ from typing import Any
 import pypdfium2 as pdfium
 import pytest
 
-from checks.registry import all_checks
-from checks.runner import run_checks
-from extractor.api import extract
-from extractor.layout import load_layout
-from extractor.records import Certificate
+from certvet.checks.registry import all_checks
+from certvet.checks.runner import run_checks
+from certvet.extractor.api import extract
+from certvet.extractor.layout import load_layout
+from certvet.extractor.records import Certificate
 
 ROOT = Path(__file__).resolve().parent.parent
 HERE = ROOT / "fixtures" / "wholecert"

@@ -17,10 +17,10 @@ from pathlib import Path
 import pytest
 from typer.testing import CliRunner
 
+from certvet.checks.model import Outcome, Severity
 from certvet.cli import app
-from checks.model import Outcome, Severity
-from reports.model import SEVERITY_LEGEND, SEVERITY_LEGEND_NOTE, severity_css
-from reports.verdict import NOT_AUDITED, WORDING, VerdictKey
+from certvet.reports.model import SEVERITY_LEGEND, SEVERITY_LEGEND_NOTE, severity_css
+from certvet.reports.verdict import NOT_AUDITED, WORDING, VerdictKey
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "fixtures" / "demo"

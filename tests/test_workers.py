@@ -12,8 +12,8 @@ from pathlib import Path
 
 import pytest
 
+from certvet.extractor.errors import InputError
 from certvet.workers import Limits, run_isolated
-from extractor.errors import InputError
 
 
 def _job(path: Path) -> str:

@@ -10,7 +10,7 @@ import pytest
 from typer.testing import CliRunner
 
 from certvet.cli import app
-from reports.model import CAUTIONS
+from certvet.reports.model import CAUTIONS
 
 ROOT = Path(__file__).resolve().parents[1]
 HOSTILE = ROOT / "fixtures" / "hostile"

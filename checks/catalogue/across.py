@@ -10,9 +10,9 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from checks.base import CorpusCheck, option
-from checks.model import Severity
-from checks.registry import register
+from certvet.checks.base import CorpusCheck, option
+from certvet.checks.model import Severity
+from certvet.checks.registry import register
 
 _SAME_READINGS = ("common practice, no source: independent tests of different installations do "
                   "not produce the same set of readings")

@@ -5,12 +5,12 @@ from __future__ import annotations
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-from checks.base import CertificateCheck, fmt, option
-from checks.catalogue.loop import earthing_of
-from checks.model import Finding, Severity
-from checks.registry import register
-from checks.tables import load, table_54_7_min_cpc
-from extractor.records import Certificate
+from certvet.checks.base import CertificateCheck, fmt, option
+from certvet.checks.catalogue.loop import earthing_of
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.checks.tables import load, table_54_7_min_cpc
+from certvet.extractor.records import Certificate
 
 
 def pme_min_bonding(neutral_csa: float) -> float:

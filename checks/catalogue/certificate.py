@@ -4,13 +4,13 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 
-from checks.base import CertificateCheck
-from checks.catalogue.completeness import limitations_recorded
-from checks.certificate_facts import ReportKind, observations, report_kind
-from checks.model import Finding, Severity
-from checks.registry import register
-from extractor.fields import CERTIFICATE
-from extractor.records import Certificate, ValueKind
+from certvet.checks.base import CertificateCheck
+from certvet.checks.catalogue.completeness import limitations_recorded
+from certvet.checks.certificate_facts import ReportKind, observations, report_kind
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.extractor.fields import CERTIFICATE
+from certvet.extractor.records import Certificate, ValueKind
 
 _NEW_WORK = (ReportKind.EIC, ReportKind.MINOR_WORKS)
 

@@ -6,15 +6,15 @@ import re
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-from checks.base import CertificateCheck, CircuitCheck, option
-from checks.catalogue.rcd import has_rcd
-from checks.certificate_facts import observation_codes  # one parser, shared
-from checks.model import Finding, Severity
-from checks.registry import register
-from checks.tables import EARTHING_CHOICES
-from extractor.fields import CERTIFICATE, FIELDS
-from extractor.records import Board, Certificate, Circuit, Value, ValueKind
-from extractor.tokens import ticked_choice
+from certvet.checks.base import CertificateCheck, CircuitCheck, option
+from certvet.checks.catalogue.rcd import has_rcd
+from certvet.checks.certificate_facts import observation_codes  # one parser, shared
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.checks.tables import EARTHING_CHOICES
+from certvet.extractor.fields import CERTIFICATE, FIELDS
+from certvet.extractor.records import Board, Certificate, Circuit, Value, ValueKind
+from certvet.extractor.tokens import ticked_choice
 
 _SPARE = re.compile(r"\b(?:spare|unused|not used|blank|empty way|redundant)\b", re.IGNORECASE)
 _NONE_WORDS = {"none", "nil", "no", "no limitations", "none recorded", "n/a", "na"}

@@ -9,8 +9,8 @@ from __future__ import annotations
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-from checks.base import CertificateCheck, option
-from checks.certificate_facts import (
+from certvet.checks.base import CertificateCheck, option
+from certvet.checks.certificate_facts import (
     Interval,
     ReportKind,
     cert_date,
@@ -19,9 +19,9 @@ from checks.certificate_facts import (
     premises_interval,
     report_kind,
 )
-from checks.model import Finding, Severity
-from checks.registry import register
-from extractor.records import Certificate
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.extractor.records import Certificate
 
 _DATE_FIELDS = ("inspection_date", "issue_date", "next_inspection", "instrument_calibration")
 

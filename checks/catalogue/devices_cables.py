@@ -7,13 +7,19 @@ import re
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-from checks import tables
-from checks.base import CircuitCheck, fmt, option
-from checks.catalogue.loop import earthing_of
-from checks.devices import Device, is_ring, parse_device, rcd_protection, ring_or_radial_unknown
-from checks.model import Finding, Severity
-from checks.registry import register
-from extractor.records import Board, Certificate, Circuit
+from certvet.checks import tables
+from certvet.checks.base import CircuitCheck, fmt, option
+from certvet.checks.catalogue.loop import earthing_of
+from certvet.checks.devices import (
+    Device,
+    is_ring,
+    parse_device,
+    rcd_protection,
+    ring_or_radial_unknown,
+)
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.extractor.records import Board, Certificate, Circuit
 
 # Wiring that is not flat twin and earth, where Table 4D5 does not apply (SWA, XLPE, MI).
 _OTHER_CABLE = re.compile(r"\b(?:swa|xlpe|micc|mi|mims|lsf|90\s*°?\s*c)\b", re.IGNORECASE)

@@ -4,17 +4,17 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 
-from checks.base import CertificateCheck
-from checks.certificate_facts import (
+from certvet.checks.base import CertificateCheck
+from certvet.checks.certificate_facts import (
     ReportKind,
     certificate_date,
     edition_in_force,
     parse_edition,
     report_kind,
 )
-from checks.model import Finding, Severity
-from checks.registry import register
-from extractor.records import Certificate
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.extractor.records import Certificate
 
 
 @register

@@ -5,11 +5,11 @@ from __future__ import annotations
 import dataclasses
 from collections.abc import Iterable
 
-from checks.base import CertificateCheck
-from checks.model import Finding, Severity
-from checks.registry import register
-from extractor.fields import BOARD, CERTIFICATE, FIELDS
-from extractor.records import Board, Certificate, Circuit, ValueKind
+from certvet.checks.base import CertificateCheck
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.extractor.fields import BOARD, CERTIFICATE, FIELDS
+from certvet.extractor.records import Board, Certificate, Circuit, ValueKind
 
 
 def _label(name: str | None) -> str:

@@ -12,13 +12,13 @@ import re
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-from checks.base import BoardCheck, CertificateCheck, fmt, option
-from checks.catalogue.completeness import is_spare
-from checks.catalogue.loop import earthing_of
-from checks.catalogue.supply import kiloamps
-from checks.model import Finding, Severity
-from checks.registry import register
-from extractor.records import Board, Certificate, Circuit, ValueKind
+from certvet.checks.base import BoardCheck, CertificateCheck, fmt, option
+from certvet.checks.catalogue.completeness import is_spare
+from certvet.checks.catalogue.loop import earthing_of
+from certvet.checks.catalogue.supply import kiloamps
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.extractor.records import Board, Certificate, Circuit, ValueKind
 
 _ORIGIN = re.compile(r"\b(?:origin|intake|supply|meter|dno|cut-?out|service head)\b", re.I)
 _PARENT = re.compile(r"^\s*(?P<board>[A-Z][\w-]*)\s*(?:(?:/|circuit|cct|way|way no\.?)\s*"

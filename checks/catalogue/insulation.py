@@ -6,10 +6,10 @@ import re
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-from checks.base import CircuitCheck, fmt, option
-from checks.model import Finding, Severity
-from checks.registry import register
-from extractor.records import Board, Certificate, Circuit, Value, ValueKind
+from certvet.checks.base import CircuitCheck, fmt, option
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.extractor.records import Board, Certificate, Circuit, Value, ValueKind
 
 IR_FIELDS = ("ir_live_live", "ir_live_earth")
 _IR_LABEL = {"ir_live_live": "live-live", "ir_live_earth": "live-earth"}

@@ -6,11 +6,11 @@ import re
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-from checks.base import CertificateCheck, CircuitCheck, fmt, option
-from checks.devices import parse_device, rcd_protection
-from checks.model import Finding, Severity
-from checks.registry import register
-from checks.tables import (
+from certvet.checks.base import CertificateCheck, CircuitCheck, fmt, option
+from certvet.checks.devices import parse_device, rcd_protection
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.checks.tables import (
     CURRENT,
     PRE_2015,
     SIXTEENTH,
@@ -21,8 +21,8 @@ from checks.tables import (
     normalise_earthing,
     rcd_max_ra,
 )
-from checks.tables import factor as table_factor
-from extractor.records import Board, Certificate, Circuit, Value
+from certvet.checks.tables import factor as table_factor
+from certvet.extractor.records import Board, Certificate, Circuit, Value
 
 # --- helpers shared with checks.catalogue.supply -------------------------------------------------
 

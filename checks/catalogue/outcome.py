@@ -5,8 +5,8 @@ from __future__ import annotations
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-from checks.base import CertificateCheck, option
-from checks.certificate_facts import (
+from certvet.checks.base import CertificateCheck, option
+from certvet.checks.certificate_facts import (
     ReportKind,
     observations,
     outcome,
@@ -14,9 +14,9 @@ from checks.certificate_facts import (
     report_kind,
     summary_counts,
 )
-from checks.model import Finding, Severity
-from checks.registry import get_check, register
-from extractor.records import Board, Certificate, Circuit, ValueKind
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import get_check, register
+from certvet.extractor.records import Board, Certificate, Circuit, ValueKind
 
 # The checks whose breach findings are schedule failures an inspector must code C1 or C2.
 FAILURE_CHECKS = ("zs-over-max-for-device,ir-below-minimum,rcd-time-limit,rcd-time-5x-limit,"

@@ -7,18 +7,18 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 from datetime import date
 
-from checks.base import CircuitCheck, fmt, option
-from checks.certificate_facts import Applies, observation_note, requirement_applies
-from checks.devices import (
+from certvet.checks.base import CircuitCheck, fmt, option
+from certvet.checks.certificate_facts import Applies, observation_note, requirement_applies
+from certvet.checks.devices import (
     RcdProtection,
     is_ring,
     might_be_ring,
     rcd_protection,
     serves_sockets,
 )
-from checks.model import Finding, Severity
-from checks.registry import register
-from extractor.records import Board, Certificate, Circuit, ValueKind
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.extractor.records import Board, Certificate, Circuit, ValueKind
 
 _S_TYPE = re.compile(r"(?:^|[\s/,(-])s(?:$|[\s/,)-])|selective|time[- ]?delay", re.IGNORECASE)
 

@@ -13,10 +13,10 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 from datetime import date
 
-from checks.base import CertificateCheck, CircuitCheck, option
-from checks.catalogue.completeness import is_spare
-from checks.catalogue.rcd import is_socket_circuit
-from checks.certificate_facts import (
+from certvet.checks.base import CertificateCheck, CircuitCheck, option
+from certvet.checks.catalogue.completeness import is_spare
+from certvet.checks.catalogue.rcd import is_socket_circuit
+from certvet.checks.certificate_facts import (
     Applies,
     ReportKind,
     is_domestic,
@@ -24,10 +24,10 @@ from checks.certificate_facts import (
     report_kind,
     requirement_applies,
 )
-from checks.devices import rcd_protection
-from checks.model import Finding, Severity
-from checks.registry import register
-from extractor.records import Board, Certificate, Circuit, ValueKind
+from certvet.checks.devices import rcd_protection
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.extractor.records import Board, Certificate, Circuit, ValueKind
 
 _BATH = re.compile(r"\b(?:bath(?:room)?s?|shower(?: room)?s?|en[- ]?suites?|wet ?rooms?)\b",
                    re.I)

@@ -7,12 +7,12 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 from typing import ClassVar
 
-from checks.base import CircuitCheck, fmt, option
-from checks.devices import ring_or_radial_unknown
-from checks.model import Finding, Severity
-from checks.registry import register
-from checks.tables import conductor_mohm_per_m
-from extractor.records import Board, Certificate, Circuit, ValueKind
+from certvet.checks.base import CircuitCheck, fmt, option
+from certvet.checks.devices import ring_or_radial_unknown
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.checks.tables import conductor_mohm_per_m
+from certvet.extractor.records import Board, Certificate, Circuit, ValueKind
 
 
 @register

@@ -6,13 +6,13 @@ import re
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-from checks.base import CertificateCheck, CircuitCheck, fmt, option
-from checks.catalogue.loop import earthing_of, origin_ze
-from checks.devices import parse_device
-from checks.model import Finding, Severity
-from checks.registry import register
-from checks.tables import declared_ze
-from extractor.records import Board, Certificate, Circuit, Value, ValueKind
+from certvet.checks.base import CertificateCheck, CircuitCheck, fmt, option
+from certvet.checks.catalogue.loop import earthing_of, origin_ze
+from certvet.checks.devices import parse_device
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.checks.tables import declared_ze
+from certvet.extractor.records import Board, Certificate, Circuit, Value, ValueKind
 
 
 def kiloamps(v: Value) -> float | None:

@@ -12,11 +12,11 @@ from collections import Counter
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-from checks.base import BoardCheck, CertificateCheck, fmt, option
-from checks.devices import circuit_kind, is_rcbo, is_ring
-from checks.model import Finding, Severity
-from checks.registry import register
-from extractor.records import Board, Certificate, Circuit, Value
+from certvet.checks.base import BoardCheck, CertificateCheck, fmt, option
+from certvet.checks.devices import circuit_kind, is_rcbo, is_ring
+from certvet.checks.model import Finding, Severity
+from certvet.checks.registry import register
+from certvet.extractor.records import Board, Certificate, Circuit, Value
 
 _DECIMALS = re.compile(r"[.,](\d+)")
 

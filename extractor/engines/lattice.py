@@ -23,9 +23,9 @@ from __future__ import annotations
 from collections.abc import Iterator
 from typing import Any
 
-from extractor.engines.base import ZAPF_DINGBATS, PageContent, Rule, Word
-from extractor.engines.plumber import PlumberEngine
-from extractor.errors import InputError
+from certvet.extractor.engines.base import ZAPF_DINGBATS, PageContent, Rule, Word
+from certvet.extractor.engines.plumber import PlumberEngine
+from certvet.extractor.errors import InputError
 
 INSET = 0.8  # points a cell word sits inside its cell's box
 

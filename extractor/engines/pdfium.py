@@ -35,16 +35,16 @@ import math
 from collections.abc import Iterator
 from typing import Any
 
-from extractor.engines.base import PageContent, Rule
-from extractor.engines.plumber import SAME, axis_rectangle, check_pdf_file, rect_rules
-from extractor.engines.words import (
+from certvet.extractor.engines.base import PageContent, Rule
+from certvet.extractor.engines.plumber import SAME, axis_rectangle, check_pdf_file, rect_rules
+from certvet.extractor.engines.words import (
     CONTROL_CHARS,
     UNREADABLE,
     Char,
     build_words,
     char_direction,
 )
-from extractor.errors import InputError
+from certvet.extractor.errors import InputError
 
 # Descent (thousandths of an em) pdfminer uses for the 14 standard fonts and their common
 # aliases (from the fonts' AFM files); Symbol and ZapfDingbats have none (0).

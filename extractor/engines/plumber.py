@@ -31,8 +31,8 @@ from __future__ import annotations
 from collections.abc import Iterator
 from typing import Any
 
-from extractor.engines.base import PageContent, Rule
-from extractor.engines.words import (
+from certvet.extractor.engines.base import PageContent, Rule
+from certvet.extractor.engines.words import (
     CANONICAL,
     CONTROL_CHARS,
     LIGATURES,
@@ -43,7 +43,7 @@ from extractor.engines.words import (
     char_direction,
     is_unreadable,
 )
-from extractor.errors import InputError
+from certvet.extractor.errors import InputError
 
 THIN = 2.0  # a filled rectangle thinner than this (points) is a ruling line
 SAME = 1e-3  # coordinates closer than this (points) are equal: a /Rotate or a turned content

@@ -34,7 +34,7 @@ from collections.abc import Iterable
 from operator import itemgetter
 from typing import NamedTuple
 
-from extractor.engines.base import ZAPF_DINGBATS, Word
+from certvet.extractor.engines.base import ZAPF_DINGBATS, Word
 
 # A gap wider than this × font size between chars ends a word, whether or not a space char
 # is there. Word spaces are 0.2–0.33 em in text fonts (Times 0.25, Helvetica 0.278, a
