@@ -178,8 +178,9 @@ def _pdf(draw) -> bytes:
 def test_no_text_layer_says_what_was_looked_for(tmp_path: Path) -> None:
     p = tmp_path / "scan.pdf"
     p.write_bytes(_pdf(lambda c: c.rect(50, 50, 300, 300, fill=1)))
-    with pytest.raises(DraftError, match="no text layer: looked for characters on all 1 page"):
+    with pytest.raises(DraftError, match="no text layer: looked for characters on all 1 page") as e:
         draft_layout(p)
+    assert "OCR tool of your choice" in str(e.value)  # names the next step
 
 
 def test_no_table_says_what_was_looked_for(tmp_path: Path) -> None:

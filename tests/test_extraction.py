@@ -312,5 +312,8 @@ def test_bad_inputs_are_one_line_errors(tmp_path: Path) -> None:
     c = Canvas(str(image_only))
     c.rect(50, 50, 400, 600, fill=1)
     c.save()
-    with pytest.raises(InputError, match="no text layer"):
+    with pytest.raises(InputError, match="no text layer") as refused:
         page_text(str(image_only))
+    # The refusal names the next step, since OCR is not built in.
+    assert "OCR tool of your choice" in str(refused.value)
+    assert "out of scope" not in str(refused.value)
