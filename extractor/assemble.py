@@ -356,9 +356,9 @@ def text_candidates(lines: Sequence[Line], words: Sequence[Word]) -> list[Cand]:
                         top = min(top, w.top)
                         x1 = max(x1, w.x1)
                         bottom = max(bottom, w.bottom)
-                        c = cys[j - 1]
-                        lo = min(lo, c)
-                        hi = max(hi, c)
+                        cy = cys[j - 1]
+                        lo = min(lo, cy)
+                        hi = max(hi, cy)
                         text = text + " " + w.text
                     ws = p[i:j]
                     if hi - lo <= 3.0:
