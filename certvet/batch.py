@@ -672,6 +672,7 @@ def write_cross_findings(found: Sequence[CrossFinding], out_dir: Path,
     from certvet.checks.model import FINDING_COLUMNS
     from certvet.reports.csvout import write_table
     from certvet.reports.files import replaced_atomically
+    from certvet.reports.model import CAUTIONS
 
     keys = keys or {}
     rows = []
@@ -681,7 +682,8 @@ def write_cross_findings(found: Sequence[CrossFinding], out_dir: Path,
                      "related_sha256": [keys[o][0] for o in cf.others if o in keys]})
     js = out_dir / "cross-findings.json"
     with replaced_atomically(js) as fh:
-        json.dump({"format_version": 2, "findings": rows}, fh, indent=1)
+        json.dump({"format_version": 2, "cautions": list(CAUTIONS), "findings": rows}, fh,
+                  indent=1)
     cols = (["cert_sha256", "cert_number"] + [c for c in FINDING_COLUMNS if c != "box"]
             + ["related", "related_sha256"])
     cs = write_table(out_dir / "cross-findings.csv", cols,

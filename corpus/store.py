@@ -16,6 +16,7 @@
 
 from __future__ import annotations
 
+import csv
 import functools
 import json
 import re
@@ -28,6 +29,8 @@ from importlib import metadata
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from certvet.checks.caution import CSV_CAUTION_ROW as CAUTION_ROW
+from certvet.checks.caution import DATA_CAUTION, PARQUET_CAUTION_KEY
 from certvet.checks.model import CheckRun, Finding, Outcome, Severity
 from certvet.checks.profile import Profile
 from certvet.checks.runner import CheckResults
@@ -704,11 +707,24 @@ class Corpus:
         for table, df in self.frames():
             target = out_dir / f"{table}.{format}"
             if format == "csv":  # text from PDFs: formula-like cells made spreadsheet-safe
-                df.map(spreadsheet_cell).to_csv(target, index=False)
+                with target.open("w", encoding="utf-8", newline="") as fh:
+                    csv.writer(fh).writerow(CAUTION_ROW)  # first row: the caution
+                    df.map(spreadsheet_cell).to_csv(fh, index=False)
             else:
-                df.to_parquet(target, index=False)
+                _write_parquet(df, target)
             written.append(target)
         return written
+
+
+def _write_parquet(df: pd.DataFrame, target: Path) -> None:
+    """A Parquet file with the caution in its file metadata (key ``certvet.caution``)."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    table = pa.Table.from_pandas(df, preserve_index=False)
+    meta = dict(table.schema.metadata or {})
+    meta[PARQUET_CAUTION_KEY.encode()] = DATA_CAUTION.encode("utf-8")
+    pq.write_table(table.replace_schema_metadata(meta), target)
 
 
 def _cells(row: sqlite3.Row, specs: dict[str, FieldSpec]) -> dict[str, Cell]:

@@ -342,9 +342,31 @@ def text_candidates(lines: Sequence[Line], words: Sequence[Word]) -> list[Cand]:
                 phrases.append([w])
         row = []
         for p in phrases:
+            cys = [(w.top + w.bottom) / 2 for w in p]
             for i in range(len(p)):
+                # runs p[i:j] grown one word at a time: box and text kept as they grow
+                first = p[i]
+                x0, top, x1, bottom = first.x0, first.top, first.x1, first.bottom
+                lo = hi = cys[i]
+                text = first.text
                 for j in range(i + 1, min(i + 4, len(p)) + 1):
-                    row.append((_cand(p[i:j], False), p[i:j]))
+                    if j > i + 1:
+                        w = p[j - 1]
+                        x0 = min(x0, w.x0)
+                        top = min(top, w.top)
+                        x1 = max(x1, w.x1)
+                        bottom = max(bottom, w.bottom)
+                        cy = cys[j - 1]
+                        lo = min(lo, cy)
+                        hi = max(hi, cy)
+                        text = text + " " + w.text
+                    ws = p[i:j]
+                    if hi - lo <= 3.0:
+                        # one text line (centres within the tolerance of `_cand`), its words
+                        # already in the line's left-to-right order: the text of `text_of`
+                        row.append((Cand(text, x0, top, x1, bottom, j - i, False), ws))
+                    else:
+                        row.append((_cand(ws, False), ws))
         runs.append(row)
         out.extend(c for c, _ in row)
 
@@ -358,8 +380,20 @@ def text_candidates(lines: Sequence[Line], words: Sequence[Word]) -> list[Cand]:
         size = max((w.size for w in lines[i].words), default=8.0)
         if lines[i + 1].top - lines[i].bottom > size:
             continue
+        lower_row = runs[i + 1]
+        # the lower runs by centre and by left edge: each upper run bisects for the lower runs
+        # that can pass `mutual` (centre inside it, or left edge within 1 pt), then tests
+        # those alone, in the lower row's own order
+        by_cx = sorted(range(len(lower_row)), key=lambda k: lower_row[k][0].cx)
+        cxs = [lower_row[k][0].cx for k in by_cx]
+        by_x0 = sorted(range(len(lower_row)), key=lambda k: lower_row[k][0].x0)
+        x0s = [lower_row[k][0].x0 for k in by_x0]
         for upper, uw in runs[i]:
-            for lower, lw in runs[i + 1]:
+            near = set(by_cx[bisect_left(cxs, upper.x0) : bisect_right(cxs, upper.x1)])
+            near.update(by_x0[bisect_left(x0s, upper.x0 - 1.001) :
+                              bisect_right(x0s, upper.x0 + 1.001)])
+            for k in sorted(near):
+                lower, lw = lower_row[k]
                 if mutual(upper, lower):
                     out.append(_cand(uw + lw, False))
 
@@ -406,13 +440,21 @@ def find_headers(
     columns: Sequence[ColumnSpec], cands: Sequence[Cand], anchor: int, slack: float
 ) -> list[Header]:
     hdr_cols = [i for i, c in enumerate(columns) if c.header is not None]
-    texts = {c.text for c in cands}  # many cells repeat ("N/A", "500"): match each text once
+    by_text: dict[str, list[int]] = {}  # many cells repeat ("N/A", "500"): match each once
+    for k, c in enumerate(cands):
+        by_text.setdefault(c.text, []).append(k)
+    texts = set(by_text)
     matches = {}
     for i in hdr_cols:
         pattern = columns[i].header
         assert pattern is not None
-        hits = {t for t in texts if pattern.search(t)}
-        matches[i] = sorted((c for c in cands if c.text in hits), key=_pref)
+        hits = _matching(pattern, texts)
+        if len(hits) == 1:
+            (t,) = hits
+            at = by_text[t]
+        else:
+            at = sorted(k for t in hits for k in by_text[t])  # the candidates' own order
+        matches[i] = sorted([cands[k] for k in at], key=_pref)
     need = max(1, min(2, len(hdr_cols)), int(HEADER_SHARE * len(hdr_cols) + 0.999))
     headers: list[Header] = []
     for a in sorted(matches[anchor], key=lambda c: (c.top, c.x0)):
@@ -449,6 +491,27 @@ def find_headers(
             Header(top, bottom, a.ruled, chosen, [i for i in hdr_cols if i not in chosen])
         )
     return headers
+
+
+# per pattern: the texts searched so far and those it was found in. Pages repeat their texts
+# ("N/A", "0.42", column labels): each is searched once, the rest is set arithmetic.
+_MATCHES: dict[tuple[str, int], tuple[set[str], set[str]]] = {}
+_MATCHES_MAX = 100_000  # texts remembered per pattern before its sets start afresh
+
+
+def _matching(pattern: re.Pattern[str], texts: set[str]) -> set[str]:
+    """The texts in which `pattern` is found."""
+    key = (pattern.pattern, pattern.flags)
+    got = _MATCHES.get(key)
+    if got is None or len(got[0]) > _MATCHES_MAX:
+        got = _MATCHES[key] = (set(), set())
+    seen, found = got
+    new = texts - seen
+    if new:
+        search = pattern.search
+        found.update(t for t in new if search(t))
+        seen.update(new)
+    return texts & found
 
 
 def _overlaps_any(c: Cand, others: Iterable[Cand]) -> bool:

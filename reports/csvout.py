@@ -5,6 +5,11 @@
 Cell text comes from untrusted PDFs and these files are opened in spreadsheets: every cell
 goes through `extractor.untrusted.spreadsheet_cell` (formula-like text gets a leading
 apostrophe), the one rule every CSV writer of certvet uses (`write_table`).
+
+Every CSV file certvet writes starts with one caution row (a single cell, ``# certvet caution:
+...``: a desk check cannot show an installation is safe), then the header row. A spreadsheet
+shows the caution first; a program skips one line (`read_table`, or
+``pandas.read_csv(path, skiprows=1)``). docs/corpus.md, "Cautions in data files".
 """
 
 from __future__ import annotations
@@ -14,6 +19,7 @@ from collections.abc import Iterable, Sequence
 from pathlib import Path
 from typing import Any
 
+from certvet.checks.caution import CSV_CAUTION_MARK, CSV_CAUTION_ROW
 from certvet.checks.model import FINDING_COLUMNS
 from certvet.checks.runner import CheckResults
 from certvet.extractor.frame import circuit_rows, frame_columns
@@ -22,14 +28,29 @@ from certvet.extractor.untrusted import spreadsheet_cell
 from certvet.extractor.untrusted import spreadsheet_safe as neutralise
 from certvet.reports.files import replaced_atomically
 
-__all__ = ["neutralise", "write_csv", "write_findings_csv", "write_records_csv", "write_table"]
+__all__ = ["CAUTION_ROW", "neutralise", "read_table", "write_csv", "write_findings_csv",
+           "write_records_csv", "write_table"]
+
+
+CAUTION_ROW = CSV_CAUTION_ROW
+
+
+def read_table(path: str | Path) -> list[dict[str, str]]:
+    """The rows of a CSV file certvet wrote, as dicts (the caution row skipped)."""
+    with Path(path).open(encoding="utf-8", newline="") as fh:
+        first = fh.readline()
+        if not first.lstrip('"').startswith(CSV_CAUTION_MARK):
+            raise ValueError(f"{path}: not a certvet CSV file (no caution row first)")
+        return list(csv.DictReader(fh))
 
 
 def write_table(path: str | Path, columns: Sequence[str], rows: Iterable[Sequence[Any]]) -> Path:
-    """A CSV file: a header row, then each row with every cell made spreadsheet-safe."""
+    """A CSV file: the caution row, a header row, then each row with every cell made
+    spreadsheet-safe."""
     out = Path(path)
     with replaced_atomically(out, newline="") as fh:  # never a truncated file (disk full)
         w = csv.writer(fh)
+        w.writerow(CAUTION_ROW)
         w.writerow(columns)
         for row in rows:
             w.writerow([spreadsheet_cell(v) for v in row])

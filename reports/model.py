@@ -9,6 +9,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field, replace
 from typing import Any
 
+from certvet.checks.caution import DESK_CHECK_CAUTION, NOT_AN_INSPECTION
 from certvet.checks.model import CheckRun, Finding, Outcome, Severity
 from certvet.checks.profile import Profile
 from certvet.checks.registry import get_check
@@ -18,9 +19,8 @@ from certvet.extractor.records import Board, Cell, Certificate, Circuit, ValueKi
 from certvet.reports.verdict import Verdict, decide
 
 CAUTIONS: tuple[str, ...] = (
-    "This is a desk check of the results written on a certificate. It cannot show that an "
-    "installation is safe, and it cannot show that the tests were actually carried out.",
-    "It does not replace inspection and testing by a competent person.",
+    DESK_CHECK_CAUTION,
+    NOT_AN_INSPECTION,
     "Where this report and BS 7671, local codes or licensed practice differ, they prevail. "
     "Limits used by the checks are listed with their source; check them before relying on them.",
     "Electrical work can kill. Do not open, test or alter an installation unless you are "

@@ -223,6 +223,20 @@ class ClusterView:
     pairs: tuple[PairView, ...]
 
 
+# rows of "Sample these first" before the grouped list (common practice, no source)
+SAMPLE_SIZE = 25
+OPEN_TONES = ("impossible", "breach", "query", "incomplete")  # groups shown open: the problems
+
+
+@dataclass(frozen=True)
+class VerdictGroup:
+    """Every certificate of one verdict, in rank order; problem groups start open."""
+    label: str
+    tone: str
+    rows: list[Ranked]
+    open: bool
+
+
 @dataclass
 class PortfolioView:
     title: str
@@ -242,6 +256,8 @@ class PortfolioView:
     cautions: tuple[str, ...]
     severities: list[str]
     cross_count: int
+    sample: list[Ranked] = field(default_factory=list)  # the top of `ranked` with a score
+    groups: list[VerdictGroup] = field(default_factory=list)  # all of `ranked`, by verdict
 
 
 def _label(c: CertInput) -> str:
@@ -315,6 +331,11 @@ def build_view(data: PortfolioData, page: Path) -> PortfolioView:
     verdicts = sorted(((lab, tone, n) for (lab, tone), n in verdict_counts.items()),
                       key=lambda t: order.index(t[1]) if t[1] in order else 99)
 
+    sample = [r for r in ranked if r.score][:SAMPLE_SIZE]
+    verdict_groups = [
+        VerdictGroup(lab, tone, [r for r in ranked if (r.verdict, r.tone) == (lab, tone)],
+                     tone in OPEN_TONES) for lab, tone, _n in verdicts]
+
     fcount: Counter[tuple[str, str, bool]] = Counter()
     fcerts: dict[tuple[str, str, bool], set[int]] = defaultdict(set)
     for c in data.certificates:
@@ -360,7 +381,8 @@ def build_view(data: PortfolioData, page: Path) -> PortfolioView:
                 "workload": Markup(work_svg)},  # noqa: S704
         chart_notes={"zs": ratio_note, "digits": digit_note, "workload": work_note},
         failures=sorted(data.failures), score_rules=SCORE_RULES, cautions=CAUTIONS,
-        severities=data.severities, cross_count=len(data.links),
+        severities=data.severities, cross_count=len(data.links), sample=sample,
+        groups=verdict_groups,
     )
 
 

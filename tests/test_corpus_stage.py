@@ -9,7 +9,6 @@ fixtures/generator/demo_set.py); grid-clean-01 is the earlier certificate.
 
 from __future__ import annotations
 
-import csv
 import json
 import shutil
 import sqlite3
@@ -26,6 +25,7 @@ from certvet.batch import Status, run_batch
 from certvet.checks.model import Severity
 from certvet.cli import app
 from certvet.corpus import Corpus, CorpusError
+from certvet.reports.csvout import read_table
 from certvet.reports.portfolio import build_view
 
 CLEAN, COPIED, FAULTY = "grid-clean-01", "grid-copied-07", "grid-faulty-03"
@@ -72,7 +72,7 @@ def test_both_certificates_say_readings_copied_and_fail_the_run(run) -> None:
         (line,) = doc["verdict"]["copies"]
         assert "likely source" in line
         assert ("this certificate is the earlier" in line) is (here == CLEAN)
-        rows = list(csv.DictReader(js.with_name(js.stem + ".findings.csv").open()))
+        rows = read_table(js.with_name(js.stem + ".findings.csv"))
         assert [r["check_id"] for r in rows] == [COPIED_CHECK]
 
 
@@ -101,7 +101,7 @@ def test_one_findings_table_in_every_export_with_stable_keys(run, tmp_path: Path
         keys = corpus.certificate_keys()
         written = corpus.export(tmp_path / "x", "csv")
     (findings_csv,) = [p for p in written if p.name == "findings.csv"]
-    rows = list(csv.DictReader(findings_csv.open(encoding="utf-8")))
+    rows = read_table(findings_csv)
     assert len(rows) == stored
     assert {r["stage"] for r in rows} == {"certificate", "corpus"}
     shas = {sha for sha, _ in keys.values()}
@@ -110,7 +110,7 @@ def test_one_findings_table_in_every_export_with_stable_keys(run, tmp_path: Path
     copies = [r for r in rows if r["check_id"] == COPIED_CHECK]
     assert len(copies) == 2 and all(json.loads(r["related_sha256"]) for r in copies)
     # the batch's own files: the same findings, counted once, the same way
-    cross = list(csv.DictReader((work / "out" / "cross-findings.csv").open(encoding="utf-8")))
+    cross = read_table(work / "out" / "cross-findings.csv")
     doc = json.loads((work / "out" / "cross-findings.json").read_text(encoding="utf-8"))
     assert len(cross) == len(doc["findings"]) == len(report.cross_findings) == len(copies)
     assert {r["cert_sha256"] for r in cross} == {r["cert_sha256"] for r in copies}

@@ -139,3 +139,30 @@ def test_portfolio_renders_in_headless_chromium(first_run, tmp_path: Path) -> No
                     report.portfolio.resolve().as_uri()],
                    capture_output=True, timeout=120, check=False)
     assert png.exists() and png.stat().st_size > 10_000
+
+
+def test_a_big_portfolio_summarises_then_groups_by_verdict(tmp_path: Path) -> None:
+    """1,000 certificates: counts by verdict and a short sample come first, then one <details>
+    per verdict; the groups with something to question are open, "no concerns" is closed."""
+    import re
+    from dataclasses import replace
+
+    from certvet.reports.portfolio import SAMPLE_SIZE
+
+    breach = [("zs-over-max-for-device", "breach", "m")]
+    certs = [replace(_cert(i, f"BIG-{i}", breach if i % 10 == 0 else ()),
+                     **({} if i % 10 == 0 else {"verdict_key": "no_concerns",
+                                                "verdict_label": "no concerns found",
+                                                "tone": "clear"}))
+             for i in range(1, 1001)]
+    data = PortfolioData(title="t", scope="this batch", store="s.sqlite", certificates=certs,
+                         failures=[], links=[], parties=[], zs_ratios=[], last_digits=[],
+                         workload=[], workload_limit=60)
+    html = render_portfolio(data, tmp_path / "p.html").read_text(encoding="utf-8")
+    sample = html[html.index('id="sample"'):html.index('id="by-verdict"')]
+    assert sample.count("<td class=\"score\">") == SAMPLE_SIZE  # the top scores, not all 1,000
+    groups = re.findall(r'<details class="group[^"]*"( open)?><summary><span class="pill '
+                        r'tone-(\w+)">[^<]*</span> (\d+) certificate', html)
+    assert [(tone, int(n), bool(o)) for o, tone, n in groups] == [
+        ("query", 100, True), ("clear", 900, False)]
+    assert html.index('class="tiles"') < html.index('id="sample"') < html.index('id="by-verdict"')

@@ -18,7 +18,7 @@ from certvet.checks.profile import CheckSettings, Profile
 from certvet.checks.runner import CheckResults, run_checks
 from certvet.extractor.frame import circuits_frame, frame_columns
 from certvet.extractor.records import Box, Cell, Certificate, ExtractionProblem
-from certvet.reports.csvout import neutralise, write_csv
+from certvet.reports.csvout import neutralise, read_table, write_csv
 from certvet.reports.html import render_html, write_html
 from certvet.reports.jsonout import FORMAT_VERSION, certificate_from_json, report_dict, write_json
 from certvet.reports.model import CAUTIONS
@@ -346,15 +346,14 @@ def test_csv_files(tmp_path: Path) -> None:
     res = results(finding(Severity.BREACH, box=Box(1, 1, 2, 3, 4)))
     records, findings = write_csv(cert, res, tmp_path / "cert")
     assert records.name == "cert.records.csv" and findings.name == "cert.findings.csv"
-    with records.open(encoding="utf-8", newline="") as fh:
-        rows = list(csv.DictReader(fh))
+    rows = read_table(records)
     assert list(rows[0]) == frame_columns()
     assert [r["circuit_ref"] for r in rows] == ["1", "2", "3"]
     assert rows[2]["zs"] == "1.45" and rows[0]["ir_live_earth"] == ""
     assert rows[0]["description_raw"] == SCRIPT
     assert rows[2]["remarks_raw"].startswith("'=HYPERLINK")
     with findings.open(encoding="utf-8", newline="") as fh:
-        frows = list(csv.reader(fh))
+        frows = list(csv.reader(fh))[1:]  # the caution row first
     assert tuple(frows[0]) == FINDING_COLUMNS
     assert frows[1][FINDING_COLUMNS.index("severity")] == "breach"
     assert frows[1][FINDING_COLUMNS.index("box")] == "1.00 2.00 3.00 4.00"

@@ -9,7 +9,6 @@ This test fails when an old status word reappears in a template, a gold report o
 
 from __future__ import annotations
 
-import csv
 import json
 import re
 from pathlib import Path
@@ -19,6 +18,7 @@ from typer.testing import CliRunner
 
 from certvet.checks.model import Outcome, Severity
 from certvet.cli import app
+from certvet.reports.csvout import read_table
 from certvet.reports.model import SEVERITY_LEGEND, SEVERITY_LEGEND_NOTE, severity_css
 from certvet.reports.verdict import NOT_AUDITED, WORDING, VerdictKey
 
@@ -103,6 +103,5 @@ def test_every_output_uses_the_one_vocabulary(tmp_path: Path) -> None:
     runs_section = html[html.index('id="checks"'):]
     assert not OLD_OUTCOME_WORDS.findall(re.sub(r"<[^>]+>", " ", runs_section))
     # CSV: no status words at all in the findings (severity slugs only)
-    with (out / "grid-faulty-03.findings.csv").open(encoding="utf-8") as fh:
-        rows = list(csv.DictReader(fh))
+    rows = read_table(out / "grid-faulty-03.findings.csv")
     assert rows and {r["severity"] for r in rows} <= {s.slug for s in Severity}
