@@ -62,12 +62,16 @@ def _pages_checked(path: str, doc: OpenDocument, limit: int | None = None) -> It
         if limit is not None and seen >= limit:
             break
     if seen and chars == 0:
-        raise InputError(path, "no text layer (image-only pages); OCR is not built in: make a text layer with an OCR tool of your choice and run certvet on the OCR'd PDF")
+        raise InputError(path, "no text layer (image-only pages); "
+            "OCR is not built in: make a text layer with an OCR tool of your choice "
+            "and run certvet on the OCR'd PDF")
     if chars and unreadable > UNREADABLE_SHARE * chars:
         raise InputError(
             path,
             f"text unreadable: {unreadable} of {chars} characters have no Unicode mapping "
-            "(fonts without /ToUnicode); OCR is not built in: make a text layer with an OCR tool of your choice and run certvet on the OCR'd PDF",
+            "(fonts without /ToUnicode); "
+            "OCR is not built in: make a text layer with an OCR tool of your choice "
+            "and run certvet on the OCR'd PDF",
         )
 
 

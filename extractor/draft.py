@@ -809,7 +809,9 @@ def draft_layout(
         raise DraftError(
             src,
             f"no text layer: looked for characters on all {len(pages)} page(s) and found "
-            "none (a scanned image?); OCR is not built in: make a text layer with an OCR tool of your choice and run certvet on the OCR'd PDF",
+            "none (a scanned image?); "
+            "OCR is not built in: make a text layer with an OCR tool of your choice "
+            "and run certvet on the OCR'd PDF",
         )
     tables: list[_Table] = []
     page_lines: dict[int, list[Line]] = {}
