@@ -5,13 +5,16 @@ from __future__ import annotations
 import re
 from collections.abc import Iterable
 from dataclasses import dataclass
+from datetime import date
 
 from certvet.checks.base import CertificateCheck, CircuitCheck, fmt, option
+from certvet.checks.certificate_facts import tables_edition
 from certvet.checks.devices import parse_device, rcd_protection
 from certvet.checks.model import Finding, Severity
 from certvet.checks.registry import register
 from certvet.checks.tables import (
     CURRENT,
+    EDITION_NAMES,
     PRE_2015,
     SIXTEENTH,
     MaxZs,
@@ -335,6 +338,29 @@ def _device_max(cert: Certificate, board: Board, circuit: Circuit) -> tuple[MaxZ
     return (m, device.describe()) if m is not None else None
 
 
+def _device_max_in_force(
+    cert: Certificate, board: Board, circuit: Circuit, audit: date
+) -> tuple[MaxZs, str, str] | None:
+    """The maximum Zs from the tables the certificate is judged by (tables_edition: an EIC or
+    minor works at its issue date, an EICR the current ones), with a note naming the edition
+    when it is not the current one. An older table with no row for the device falls back to
+    the current table, which is never more lenient, and says so."""
+    device = parse_device(circuit)
+    t = disconnection_time_for(cert, board, circuit)
+    edition = tables_edition(cert, audit)
+    if edition != CURRENT:
+        old = max_zs(device, t, edition)
+        if old is not None:
+            return old, device.describe(), f"{EDITION_NAMES[edition]}, in force at issue"
+    m = max_zs(device, t)
+    if m is None:
+        return None
+    if edition != CURRENT:
+        return m, device.describe(), (f"current tables: {EDITION_NAMES[edition]}, in force at "
+                                      "issue, has no row for this device")
+    return m, device.describe(), ""
+
+
 @register
 class ZsOverMaxForDevice(CircuitCheck):
     """Measured Zs above the maximum for the protective device.
@@ -348,7 +374,11 @@ class ZsOverMaxForDevice(CircuitCheck):
     circuits in TN), falling back to the recorded time, then 0.4 s. Devices whose type or
     rating cannot be read are not applicable; tabulated gaps are zs-device-not-tabulated's.
     In a TT system, circuits with RCD protection are skipped (the RCD provides fault
-    protection, see tt-rcd-ra-limit).
+    protection, see tt-rcd-ra-limit). The table is the one the certificate is judged by: an
+    EIC or minor works certificate by the edition in force at its issue date (e.g. BS
+    7671:2008 before Amendment 3, no Cmin: B32 1.44 Ω), an EICR by the current edition; the
+    finding names an older edition when it used one, and a device an older table has no row
+    for is judged by the current table, saying so.
 
     Why it matters:
     Above the maximum, an earth fault may not draw enough current to operate the device in
@@ -399,17 +429,18 @@ class ZsOverMaxForDevice(CircuitCheck):
         if (self.options.skip_tt_with_rcd and earthing_of(cert, board) == "TT"
                 and _has_rcd(circuit, board)):
             return None
-        found = _device_max(cert, board, circuit)
+        found = _device_max_in_force(cert, board, circuit, self.today())
         if found is None:
             return None
-        m, name = found
+        m, name, edition_note = found
         if zs <= m.ohm + 1e-9:
             return []
+        table = f"BS 7671 {_table_name(m)}" + (f"; {edition_note}" if edition_note else "")
         return [
             self.make(
                 cert,
                 f"Measured Zs {fmt(zs, 'Ω')} is above the maximum {fmt(m.ohm, 'Ω')} for a {name} "
-                f"(BS 7671 {_table_name(m)}){_memory_note(m)}; the device may not disconnect "
+                f"({table}){_memory_note(m)}; the device may not disconnect "
                 "an earth fault in time.",
                 board=board,
                 circuit=circuit,
@@ -475,10 +506,12 @@ class ZsOver80PercentRule(CircuitCheck):
             return None
         if earthing_of(cert, board) == "TT" and _has_rcd(circuit, board):
             return None  # the RCD gives fault protection: tt-rcd-ra-limit judges it
-        found = _device_max(cert, board, circuit)
+        found = _device_max_in_force(cert, board, circuit, self.today())
         if found is None:
             return None
-        m, name = found
+        m, name, edition_note = found
+        if edition_note:
+            name = f"{name} ({edition_note})"
         limit = self.options.factor * m.ohm
         if zs <= limit + 1e-9 or zs > m.ohm + 1e-9:
             return []  # above the maximum itself is zs-over-max-for-device's finding
