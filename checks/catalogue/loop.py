@@ -332,12 +332,6 @@ class ZsBelowZe(CircuitCheck):
         ]
 
 
-def _device_max(cert: Certificate, board: Board, circuit: Circuit) -> tuple[MaxZs, str] | None:
-    device = parse_device(circuit)
-    m = max_zs(device, disconnection_time_for(cert, board, circuit))
-    return (m, device.describe()) if m is not None else None
-
-
 def _device_max_in_force(
     cert: Certificate, board: Board, circuit: Circuit, audit: date
 ) -> tuple[MaxZs, str, str] | None:
